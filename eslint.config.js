@@ -1,0 +1,26 @@
+import js from '@eslint/js';
+import tseslint from 'typescript-eslint';
+
+export default tseslint.config(
+  { ignores: ['dist/**', 'node_modules/**', 'coverage/**', 'test-artifacts/**'] },
+  js.configs.recommended,
+  ...tseslint.configs.recommended,
+  {
+    rules: {
+      '@typescript-eslint/no-unused-vars': ['error', { argsIgnorePattern: '^_', varsIgnorePattern: '^_' }],
+      '@typescript-eslint/consistent-type-imports': 'error',
+      'no-restricted-syntax': [
+        'error',
+        { selector: "MemberExpression[object.name='process'][property.name='env'][parent.property.name='NODE_ENV']", message: 'No behaviour that depends on NODE_ENV.' },
+      ],
+    },
+  },
+  {
+    // The pure core never reads the clock, the file system or the network.
+    files: ['src/events/**', 'src/margin/**', 'src/sketch/**', 'src/compare/**', 'src/reference/**'],
+    rules: {
+      'no-restricted-imports': ['error', { patterns: ['node:fs*', 'fs', 'kafkajs', 'express', 'prom-client', 'node:net', 'node:http'] }],
+      'no-restricted-properties': ['error', { object: 'Date', property: 'now', message: 'Pass the time in.' }],
+    },
+  },
+);

@@ -1,0 +1,56 @@
+/**
+ * One place for every error headroom throws. Each code is stable (`HR_ERR_<AREA>_<PROBLEM>`), documented
+ * in DEVELOPERS.md (a test checks that), and maps to an HTTP status and a CLI exit code in one place each.
+ * Bad *messages* are not errors: the decoder returns rejections (src/events/reasons.ts) and counts them.
+ */
+
+export interface ErrorSpec {
+  readonly message: string;
+  readonly retriable: boolean;
+  readonly httpStatus: number;
+  readonly exitCode: number;
+}
+
+export const ERROR_CODES = {
+  HR_ERR_CONFIG_INVALID: { message: 'configuration is invalid', retriable: false, httpStatus: 500, exitCode: 78 },
+  HR_ERR_CONFIG_UNREADABLE: { message: 'configuration file cannot be read', retriable: false, httpStatus: 500, exitCode: 66 },
+  HR_ERR_CLI_USAGE: { message: 'bad command-line usage', retriable: false, httpStatus: 400, exitCode: 64 },
+  HR_ERR_INPUT_UNREADABLE: { message: 'input cannot be read', retriable: false, httpStatus: 400, exitCode: 66 },
+  HR_ERR_INPUT_EMPTY: { message: 'input holds no valid events', retriable: false, httpStatus: 400, exitCode: 65 },
+  HR_ERR_INPUT_AMBIGUOUS: { message: 'input holds several models; choose one', retriable: false, httpStatus: 400, exitCode: 64 },
+  HR_ERR_REFERENCE_INVALID: { message: 'reference file is invalid', retriable: false, httpStatus: 500, exitCode: 65 },
+  HR_ERR_SKETCH_STATE_INVALID: { message: 'serialised sketch state is invalid', retriable: false, httpStatus: 500, exitCode: 65 },
+  HR_ERR_SKETCH_ARGUMENT: { message: 'sketch argument is out of range', retriable: false, httpStatus: 400, exitCode: 70 },
+  HR_ERR_COMPARE_ARGUMENT: { message: 'comparison argument is out of range', retriable: false, httpStatus: 400, exitCode: 70 },
+  HR_ERR_HARNESS_KAFKA_UNAVAILABLE: { message: 'no Kafka broker could be had', retriable: false, httpStatus: 503, exitCode: 69 },
+  HR_ERR_HARNESS_KAFKA_START: { message: 'the local Kafka broker did not start', retriable: true, httpStatus: 503, exitCode: 69 },
+  HR_ERR_HARNESS_PROMETHEUS_UNAVAILABLE: { message: 'prometheus or promtool is missing', retriable: false, httpStatus: 503, exitCode: 69 },
+} as const satisfies Record<string, ErrorSpec>;
+
+export type ErrorCode = keyof typeof ERROR_CODES;
+
+export class HeadroomError extends Error {
+  readonly code: ErrorCode;
+  readonly retriable: boolean;
+  readonly context: Readonly<Record<string, unknown>>;
+
+  constructor(code: ErrorCode, detail: string, options: { cause?: unknown; context?: Record<string, unknown> } = {}) {
+    super(`${ERROR_CODES[code].message}: ${detail}`, options.cause === undefined ? undefined : { cause: options.cause });
+    this.name = 'HeadroomError';
+    this.code = code;
+    this.retriable = ERROR_CODES[code].retriable;
+    this.context = options.context ?? {};
+  }
+}
+
+export function isHeadroomError(value: unknown): value is HeadroomError {
+  return value instanceof HeadroomError;
+}
+
+export function httpStatusOf(error: unknown): number {
+  return isHeadroomError(error) ? ERROR_CODES[error.code].httpStatus : 500;
+}
+
+export function exitCodeOf(error: unknown): number {
+  return isHeadroomError(error) ? ERROR_CODES[error.code].exitCode : 1;
+}
