@@ -1,0 +1,17 @@
+export { compareToReference } from './compare.js';
+export type { CompareOptions, ComparisonReport, LowMarginCounts, LowMarginReport } from './compare.js';
+export { ksStatistic, ksTest } from './ks.js';
+export type { KsResult, KsStatistic } from './ks.js';
+export { kolmogorovSf } from './kolmogorov.js';
+export { smirnovSf } from './smirnov.js';
+export { DEFAULT_PSI_EPSILON, PSI_BANDS, psi, psiBand, referenceDecileEdges } from './psi.js';
+export type { PsiBand, PsiBin, PsiOptions, PsiResult } from './psi.js';
+export { wasserstein1 } from './wasserstein.js';
+export { DEFAULT_QUANTILE_LEVELS, quantileShifts } from './quantiles.js';
+export type { QuantileShift } from './quantiles.js';
+export { Z_95, wilsonInterval } from './wilson.js';
+export type { ShareInterval } from './wilson.js';
+export { BernoulliCusum, CUSUM_STATE_FORMAT } from './cusum.js';
+export type { BernoulliCusumConfig, BernoulliCusumState } from './cusum.js';
+export { bernoulliCusumArl } from './cusum-arl.js';
+export type { CusumArlOptions } from './cusum-arl.js';
