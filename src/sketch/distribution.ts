@@ -17,6 +17,10 @@ export interface MarginDistribution {
   cdfBelow(x: number): number;
   /** Ascending, distinct points where the CDF may jump or change slope. Empty when count is 0. */
   breakpoints(): readonly number[];
-  /** Smallest x with cdf(x) >= q, for q in [0, 1]. NaN when count is 0. */
+  /**
+   * Smallest x with cdf(x) >= q, for q in [0, 1]. NaN when count is 0. For q = 0 that is read as the first
+   * breakpoint (the smallest value held), as numpy.quantile(..., method='inverted_cdf') does; a q inside an
+   * atom's jump gives the atom's value. src/sketch/digest.ts throws HR_ERR_SKETCH_ARGUMENT for q outside [0, 1].
+   */
   quantile(q: number): number;
 }
