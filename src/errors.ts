@@ -29,6 +29,15 @@ export const ERROR_CODES = {
   HR_ERR_HARNESS_KAFKA_UNAVAILABLE: { message: 'no Kafka broker could be had', retriable: false, httpStatus: 503, exitCode: 69 },
   HR_ERR_HARNESS_KAFKA_START: { message: 'the local Kafka broker did not start', retriable: true, httpStatus: 503, exitCode: 69 },
   HR_ERR_HARNESS_PROMETHEUS_UNAVAILABLE: { message: 'prometheus or promtool is missing', retriable: false, httpStatus: 503, exitCode: 69 },
+  HR_ERR_API_NOT_FOUND: { message: 'no such resource', retriable: false, httpStatus: 404, exitCode: 66 },
+  HR_ERR_API_BAD_PARAMETER: { message: 'bad request parameter', retriable: false, httpStatus: 400, exitCode: 64 },
+  HR_ERR_API_INTERNAL: { message: 'the server failed to answer', retriable: true, httpStatus: 500, exitCode: 70 },
+  HR_ERR_SERVE_ARGUMENT: { message: 'metrics or API option is invalid', retriable: false, httpStatus: 500, exitCode: 70 },
+  HR_ERR_STATE_INVALID: { message: 'partition state is invalid', retriable: false, httpStatus: 500, exitCode: 65 },
+  HR_ERR_STATE_ARGUMENT: { message: 'partition state argument is out of range', retriable: false, httpStatus: 400, exitCode: 70 },
+  HR_ERR_CHECKPOINT_CORRUPT: { message: 'stored checkpoint is corrupt; it is refused, not reset', retriable: false, httpStatus: 500, exitCode: 65 },
+  HR_ERR_CHECKPOINT_IO: { message: 'checkpoint store cannot read or write', retriable: true, httpStatus: 503, exitCode: 74 },
+  HR_ERR_CHECKPOINT_CLOSED: { message: 'checkpoint store is closed', retriable: false, httpStatus: 503, exitCode: 70 },
 } as const satisfies Record<string, ErrorSpec>;
 
 export type ErrorCode = keyof typeof ERROR_CODES;

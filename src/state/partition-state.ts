@@ -1,0 +1,366 @@
+/**
+ * What `headroom watch` knows about one Kafka topic-partition: its series (windows and exact counts),
+ * what it turned away, and the next offset to consume. Pure: no clock (the caller passes `nowMs`), no I/O.
+ *
+ * Why the offset lives here. The state and the offset it has seen up to are one object and one
+ * checkpoint, so they can never disagree. The watcher's order, per partition:
+ *   1. apply() or reject() every message of a batch, in offset order;
+ *   2. save toState() to the checkpoint store (its nextOffset = last processed + 1);
+ *   3. only then commit that offset to Kafka.
+ * On start or on assignment it restores the partition from the store and seeks to the stored
+ * nextOffset, not to Kafka's committed offset: a crash between 2 and 3 leaves the commit behind the
+ * checkpoint, and a crash before 2 leaves both behind the lost in-memory state. Either way the messages
+ * after the checkpoint are read again into the state the checkpoint holds, so each offset is counted
+ * exactly once. (No checkpoint yet: seek to the committed offset or the configured start.) As a second
+ * guard apply() and reject() skip an offset below nextOffset, so a redelivery is not counted twice.
+ *
+ * One thing replay does not reproduce: an event is judged "future" against the caller's clock, so an
+ * event refused as future before a crash may be accepted when replayed later. It is still counted once.
+ *
+ * Late and future at partition level are what the `all` series of the event's model version answered;
+ * each series also keeps its own (the segment series judge lateness against their own watermarks).
+ */
+import { z } from 'zod';
+import { isHeadroomError } from '../errors.js';
+import { isRejectionReason } from '../events/index.js';
+import type { RejectionReason, ScoredEvent } from '../events/index.js';
+import type { Margins } from '../margin/index.js';
+import { MarginWindows, sameWindowConfig, windowConfig } from '../sketch/index.js';
+import type { AddOutcome, WindowConfig, WindowOptions, WindowState } from '../sketch/index.js';
+import { badArgument, badState } from './fail.js';
+import { SeriesRouter, describe } from './routing.js';
+import type { RoutingConfig, RoutingOptions, SeriesId } from './routing.js';
+
+export const PARTITION_STATE_FORMAT = 'headroom-partition/1';
+
+export interface PartitionStateOptions extends RoutingOptions {
+  readonly topic: string;
+  readonly partition: number;
+  /** Settings of every series' windows; a restored state must have been saved with the same. */
+  readonly windows?: WindowOptions;
+}
+
+/** Exact counts of one series. `events` = the windows' added + late + future. */
+export interface SeriesCounts {
+  readonly events: number;
+  /** Events with a signed margin (a label and a score with a sign). */
+  readonly labelled: number;
+  /** Labelled events with signed margin <= 0: the model was wrong (or on the boundary). */
+  readonly wrong: number;
+}
+
+export interface SeriesSnapshot extends SeriesCounts {
+  readonly id: SeriesId;
+  /** The live windows: read them (view()), do not add to them. */
+  readonly windows: MarginWindows;
+}
+
+export interface PartitionCounts {
+  /** Decoded events applied. */
+  readonly events: number;
+  readonly late: number;
+  readonly future: number;
+  readonly rejected: Readonly<Partial<Record<RejectionReason, number>>>;
+  /** Events folded into `k=other`, per model and key. */
+  readonly folded: Readonly<Record<string, Readonly<Record<string, number>>>>;
+}
+
+export type ApplyOutcome = AddOutcome | 'duplicate';
+
+const count = z.number().int().nonnegative();
+const offsetText = z.string().regex(/^(0|[1-9][0-9]*)$/, 'must be a non-negative whole number written in decimal');
+
+const seriesSchema = z.object({
+  model: z.string().min(1),
+  version: z.string().min(1),
+  segment: z.string().min(1),
+  events: count,
+  labelled: count,
+  wrong: count,
+  windows: z.unknown(),
+});
+
+export const partitionStateSchema = z.object({
+  format: z.literal(PARTITION_STATE_FORMAT),
+  topic: z.string().min(1),
+  partition: count,
+  nextOffset: offsetText.nullable(),
+  watermarkMs: z.number().finite().nullable(),
+  routing: z.object({ segmentKeys: z.array(z.string()), maxSeries: z.number().int().positive() }),
+  counts: z.object({
+    events: count,
+    late: count,
+    future: count,
+    rejected: z.record(z.string().refine((k: string): boolean => isRejectionReason(k), 'is not a rejection reason'), count),
+    folded: z.record(z.string(), z.record(z.string(), count)),
+  }),
+  series: z.array(seriesSchema),
+});
+
+/** The JSON form of a partition state (windows as WindowState once written by toState()). */
+export type PartitionStateJson = z.infer<typeof partitionStateSchema>;
+
+/**
+ * Checks the shape of a stored state (not yet the windows inside, which fromState() checks). Throws
+ * HR_ERR_STATE_INVALID naming the first bad field, e.g. `counts.rejected.nope`.
+ */
+export function parsePartitionState(value: unknown, path = 'state'): PartitionStateJson {
+  const parsed = partitionStateSchema.safeParse(value);
+  if (parsed.success) return parsed.data;
+  const issue = parsed.error.issues[0];
+  throw badState(issueField(issue?.path ?? [], path), issue?.message ?? 'is invalid');
+}
+
+class Series {
+  events = 0;
+  labelled = 0;
+  wrong = 0;
+  constructor(readonly windows: MarginWindows) {}
+}
+
+function checkOffset(offset: string): bigint {
+  if (typeof offset !== 'string' || !/^(0|[1-9][0-9]*)$/.test(offset)) {
+    throw badArgument('offset', 'must be a Kafka offset: a non-negative whole number as a decimal string', offset);
+  }
+  return BigInt(offset);
+}
+
+export class PartitionState {
+  readonly topic: string;
+  readonly partition: number;
+  readonly windowConfig: WindowConfig;
+  private readonly router: SeriesRouter<Series>;
+  /** One scratch array for routing, so that applying an event allocates nothing (see SeriesRouter.route). */
+  private readonly targets: Series[] = [];
+  private next: bigint | null = null;
+  private watermark: number | null = null;
+  private events = 0;
+  private late = 0;
+  private future = 0;
+  private readonly rejected = new Map<RejectionReason, number>();
+
+  constructor(options: PartitionStateOptions) {
+    if (typeof options.topic !== 'string' || options.topic === '') throw badArgument('topic', 'must be a non-empty name', options.topic);
+    if (!Number.isSafeInteger(options.partition) || options.partition < 0) {
+      throw badArgument('partition', 'must be a non-negative whole number', options.partition);
+    }
+    this.topic = options.topic;
+    this.partition = options.partition;
+    this.windowConfig = windowConfig(options.windows ?? {});
+    const config = this.windowConfig;
+    this.router = new SeriesRouter<Series>(options, () => new Series(new MarginWindows(config)));
+  }
+
+  get routing(): RoutingConfig {
+    return this.router.config;
+  }
+
+  /** The offset to consume next; null before the first message. */
+  get nextOffset(): string | null {
+    return this.next === null ? null : this.next.toString();
+  }
+
+  /** Newest event time any series accepted; null before the first. */
+  get watermarkMs(): number | null {
+    return this.watermark;
+  }
+
+  /**
+   * One decoded event with its margins, at `offset`. `nowMs` is the caller's clock, used only to refuse
+   * events from the future. Returns what the event's `all` series did with it, or 'duplicate' (and
+   * changes nothing) when the offset is below nextOffset.
+   */
+  apply(event: ScoredEvent, margins: Margins, offset: string, nowMs: number): ApplyOutcome {
+    const at = checkOffset(offset);
+    if (this.next !== null && at < this.next) return 'duplicate';
+    const targets = this.targets;
+    const n = this.router.route(event, targets);
+    const signed = margins.signed;
+    let outcome: AddOutcome = 'added';
+    for (let i = 0; i < n; i += 1) {
+      const series = targets[i] as Series;
+      const result = series.windows.add(margins.confidence, event.timeMs, nowMs);
+      if (i === 0) outcome = result;
+      series.events += 1;
+      if (signed !== undefined) {
+        series.labelled += 1;
+        if (signed <= 0) series.wrong += 1;
+      }
+    }
+    targets.length = 0; // drop the references, so a series is not kept alive by the scratch array
+    this.events += 1;
+    if (outcome === 'late') this.late += 1;
+    else if (outcome === 'future') this.future += 1;
+    else if (this.watermark === null || event.timeMs > this.watermark) this.watermark = event.timeMs;
+    this.next = at + 1n;
+    return outcome;
+  }
+
+  /** A message turned away at `offset`: counted by reason, and the offset moves on past it. False if a duplicate. */
+  reject(reason: RejectionReason, offset: string): boolean {
+    if (!isRejectionReason(reason)) throw badArgument('reason', 'is not a rejection reason', reason);
+    const at = checkOffset(offset);
+    if (this.next !== null && at < this.next) return false;
+    this.rejected.set(reason, (this.rejected.get(reason) ?? 0) + 1);
+    this.next = at + 1n;
+    return true;
+  }
+
+  counts(): PartitionCounts {
+    const rejected: Partial<Record<RejectionReason, number>> = {};
+    for (const [reason, n] of [...this.rejected].sort((a, b) => (a[0] < b[0] ? -1 : 1))) rejected[reason] = n;
+    return { events: this.events, late: this.late, future: this.future, rejected, folded: this.router.folded() };
+  }
+
+  /** Every series in the order it was made. */
+  series(): SeriesSnapshot[] {
+    return this.router.series().map(({ id, series: s }) => ({ id, events: s.events, labelled: s.labelled, wrong: s.wrong, windows: s.windows }));
+  }
+
+  /** Versioned plain JSON; the checkpoint of this partition, offset included. */
+  toState(): PartitionStateJson & { series: (PartitionStateJson['series'][number] & { windows: WindowState })[] } {
+    const c = this.counts();
+    return {
+      format: PARTITION_STATE_FORMAT,
+      topic: this.topic,
+      partition: this.partition,
+      nextOffset: this.nextOffset,
+      watermarkMs: this.watermark,
+      routing: { segmentKeys: [...this.router.config.segmentKeys], maxSeries: this.router.config.maxSeries },
+      counts: { events: c.events, late: c.late, future: c.future, rejected: { ...c.rejected }, folded: structuredClone(c.folded) },
+      series: this.router.series().map(({ id, series: s }) => ({
+        model: id.model,
+        version: id.version,
+        segment: id.segment,
+        events: s.events,
+        labelled: s.labelled,
+        wrong: s.wrong,
+        windows: s.windows.toState(),
+      })),
+    };
+  }
+
+  /**
+   * A state saved by toState(), checked field by field (HR_ERR_STATE_INVALID names the field). The
+   * options are today's configuration: topic and partition must match the state's, and so must the
+   * window settings (else the restored windows could not be merged with new ones: change them only
+   * together with removing the checkpoints). Segment keys and maxSeries may change: series and folded
+   * counts of a key no longer configured are dropped, a new key starts empty.
+   */
+  static fromState(value: unknown, options: PartitionStateOptions): PartitionState {
+    const s = parsePartitionState(value);
+    const state = new PartitionState(options);
+    if (s.topic !== state.topic) throw badState('state.topic', `is ${JSON.stringify(s.topic)}, expected ${JSON.stringify(state.topic)}`);
+    if (s.partition !== state.partition) throw badState('state.partition', `is ${s.partition}, expected ${state.partition}`);
+    state.next = s.nextOffset === null ? null : BigInt(s.nextOffset);
+    state.watermark = s.watermarkMs;
+    state.events = s.counts.events;
+    state.late = s.counts.late;
+    state.future = s.counts.future;
+    for (const [reason, n] of Object.entries(s.counts.rejected)) state.rejected.set(reason as RejectionReason, n);
+    for (const [model, keys] of Object.entries(s.counts.folded)) {
+      for (const [key, n] of Object.entries(keys)) state.router.restoreFolded(model, key, n);
+    }
+    s.series.forEach((entry, i) => {
+      const path = `state.series[${i}]`;
+      let windows: MarginWindows;
+      try {
+        windows = MarginWindows.fromState(entry.windows, `${path}.windows`);
+      } catch (error) {
+        if (isHeadroomError(error)) throw badState(`${path}.windows`, `is invalid (${error.message})`, error);
+        throw error;
+      }
+      if (!sameWindowConfig(windows.config, state.windowConfig)) {
+        throw badState(`${path}.windows.config`, 'differs from the configured window settings; restore with the settings it was saved with, or remove the checkpoint to start this partition afresh');
+      }
+      const w = windows.counters();
+      if (w.added + w.late + w.future !== entry.events) {
+        throw badState(`${path}.events`, `is ${entry.events} but its windows hold ${w.added + w.late + w.future} events`);
+      }
+      if (entry.wrong > entry.labelled || entry.labelled > entry.events) throw badState(`${path}.labelled`, 'must satisfy wrong <= labelled <= events');
+      const series = new Series(windows);
+      series.events = entry.events;
+      series.labelled = entry.labelled;
+      series.wrong = entry.wrong;
+      try {
+        state.router.restore({ model: entry.model, version: entry.version, segment: entry.segment }, series);
+      } catch (error) {
+        if (isHeadroomError(error)) throw badState(path, error.message.replace(/^[^:]*: /, ''), error);
+        throw error;
+      }
+    });
+    return state;
+  }
+}
+
+function issueField(path: readonly PropertyKey[], root: string): string {
+  let out = root;
+  for (const p of path) out += typeof p === 'number' ? `[${p}]` : `.${String(p)}`;
+  return out;
+}
+
+export interface SeriesView extends SeriesCounts {
+  readonly id: SeriesId;
+  /** A fresh merged copy: the partitions' windows are not changed, and later changes to them do not show. */
+  readonly windows: MarginWindows;
+}
+
+export interface MergedView {
+  readonly partitions: number;
+  readonly counts: PartitionCounts;
+  /** The newest watermark of the partitions. */
+  readonly watermarkMs: number | null;
+  /** One entry per series, sorted by model, version and segment. */
+  readonly series: readonly SeriesView[];
+}
+
+/**
+ * The read view over several partitions (for the API and the metrics): each series' windows merged
+ * (MarginWindows.merge) and every count added, so counts equal one stream's exactly. Off the hot path.
+ */
+export function mergeView(states: readonly PartitionState[]): MergedView {
+  const byId = new Map<string, { id: SeriesId; events: number; labelled: number; wrong: number; windows: MarginWindows }>();
+  let events = 0;
+  let late = 0;
+  let future = 0;
+  let watermarkMs: number | null = null;
+  const rejected: Partial<Record<RejectionReason, number>> = {};
+  const folded: Record<string, Record<string, number>> = {};
+  for (const state of states) {
+    const c = state.counts();
+    events += c.events;
+    late += c.late;
+    future += c.future;
+    for (const [reason, n] of Object.entries(c.rejected) as [RejectionReason, number][]) rejected[reason] = (rejected[reason] ?? 0) + n;
+    for (const [model, keys] of Object.entries(c.folded)) {
+      const into = (folded[model] ??= {});
+      for (const [key, n] of Object.entries(keys)) into[key] = (into[key] ?? 0) + n;
+    }
+    if (state.watermarkMs !== null && (watermarkMs === null || state.watermarkMs > watermarkMs)) watermarkMs = state.watermarkMs;
+    for (const s of state.series()) {
+      // NUL cannot occur in names (the decoder refuses control characters), so the key is unambiguous.
+      const key = `${s.id.model}\u0000${s.id.version}\u0000${s.id.segment}`;
+      let view = byId.get(key);
+      if (view === undefined) {
+        view = { id: s.id, events: 0, labelled: 0, wrong: 0, windows: new MarginWindows(s.windows.config) };
+        byId.set(key, view);
+      }
+      view.events += s.events;
+      view.labelled += s.labelled;
+      view.wrong += s.wrong;
+      view.windows.merge(s.windows);
+    }
+  }
+  const series = [...byId.values()].sort((a, b) => compareIds(a.id, b.id));
+  return { partitions: states.length, counts: { events, late, future, rejected, folded }, watermarkMs, series };
+}
+
+function compareIds(a: SeriesId, b: SeriesId): number {
+  return cmp(a.model, b.model) || cmp(a.version, b.version) || cmp(a.segment, b.segment);
+}
+
+function cmp(a: string, b: string): number {
+  return a < b ? -1 : a > b ? 1 : 0;
+}
+
+export { describe as describeSeries };

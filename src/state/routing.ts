@@ -1,0 +1,226 @@
+/**
+ * Which series an event feeds. A series is (model, version, segment): `segment = "all"` for the whole
+ * model version, and `"k=value"` for each configured segment key k the event carries, one key at a time
+ * (an event with line=3 and shift=night feeds all, line=3 and shift=night; never line=3,shift=night).
+ *
+ * The cap. At most `maxSeries` series per model, counted over all its versions and segments, so a
+ * key with unbounded values (a user id sent by mistake) cannot grow memory without end. Once a model is
+ * at the cap, an event whose value has no series yet goes to `k=other` and is counted as folded under
+ * (model, k). `all` and `k=other` are never refused, so the cap is soft: a model holds at most
+ * maxSeries plus, per version, one `all` and one `other` per key. Values that got a series before the
+ * cap was reached keep it; the first values seen win, so which values are folded depends on arrival
+ * order, which a restored state reproduces (the router is rebuilt from the series it held).
+ *
+ * A real value "other" (OTHER_SEGMENT_VALUE, shared with reference files so that live and reference
+ * segments line up) lands in `k=other` with the folded values, and is not counted as folded: it was
+ * not turned away, it just shares its name with the place the others go.
+ *
+ * The cap is per router, i.e. per Kafka partition: partitions route on their own, so a merged view
+ * may hold up to (partitions × maxSeries) series of a model, and a value folded in one partition may
+ * have its own series in another (its merged `k=value` then undercounts and `k=other` holds the rest).
+ */
+import type { ScoredEvent } from '../events/index.js';
+import { ALL_SEGMENT } from '../reference/format.js';
+import { OTHER_SEGMENT_VALUE } from '../reference/options.js';
+import { badArgument } from './fail.js';
+
+export const DEFAULT_MAX_SERIES = 200;
+export { ALL_SEGMENT, OTHER_SEGMENT_VALUE };
+
+export interface SeriesId {
+  readonly model: string;
+  readonly version: string;
+  /** `all`, or `key=value`. */
+  readonly segment: string;
+}
+
+export interface RoutingOptions {
+  /** Segment keys that get a series per value. */
+  readonly segmentKeys?: readonly string[];
+  /** Series per model, over its versions and segments, before values are folded into `k=other`. */
+  readonly maxSeries?: number;
+}
+
+export interface RoutingConfig {
+  readonly segmentKeys: readonly string[];
+  readonly maxSeries: number;
+}
+
+export function routingConfig(options: RoutingOptions = {}): RoutingConfig {
+  const segmentKeys = options.segmentKeys ?? [];
+  if (!Array.isArray(segmentKeys)) throw badArgument('segmentKeys', 'must be an array of names', segmentKeys);
+  segmentKeys.forEach((key, i) => {
+    if (typeof key !== 'string' || key === '' || key.includes('=') || key === '__proto__') {
+      throw badArgument(`segmentKeys[${i}]`, 'must be a non-empty name without "=" (segments are named key=value)', key);
+    }
+    if (segmentKeys.indexOf(key) !== i) throw badArgument('segmentKeys', `names ${JSON.stringify(key)} twice`, segmentKeys);
+  });
+  const maxSeries = options.maxSeries ?? DEFAULT_MAX_SERIES;
+  if (!Number.isSafeInteger(maxSeries) || maxSeries < 1) throw badArgument('maxSeries', 'must be a whole number >= 1', maxSeries);
+  return Object.freeze({ segmentKeys: Object.freeze([...segmentKeys]), maxSeries });
+}
+
+/** `key=value` split at the first "=" (keys never hold one); undefined for `all` or a malformed segment. */
+export function splitSegment(segment: string): { readonly key: string; readonly value: string } | undefined {
+  const at = segment.indexOf('=');
+  if (at <= 0) return undefined;
+  return { key: segment.slice(0, at), value: segment.slice(at + 1) };
+}
+
+interface VersionRoutes<T> {
+  readonly all: T;
+  /** Per configured key (by index in segmentKeys): value → series; `other` sits here too once made. */
+  readonly byKey: Map<string, T>[];
+}
+
+interface ModelRoutes<T> {
+  readonly versions: Map<string, VersionRoutes<T>>;
+  seriesCount: number;
+  /** Folded events per key index. */
+  readonly folded: number[];
+}
+
+export interface RoutedSeries<T> {
+  readonly id: SeriesId;
+  readonly series: T;
+}
+
+/**
+ * Routes events to series made by `create`. Generic in the series so that it stays a pure, testable
+ * piece: PartitionState hands it a factory of windows and counters.
+ */
+export class SeriesRouter<T> {
+  readonly config: RoutingConfig;
+  private readonly models = new Map<string, ModelRoutes<T>>();
+  private readonly made: RoutedSeries<T>[] = [];
+
+  constructor(
+    options: RoutingOptions,
+    private readonly create: (id: SeriesId) => T,
+  ) {
+    this.config = routingConfig(options);
+  }
+
+  /**
+   * Writes the series `event` feeds into `out` from index 0 and returns how many. The caller keeps one
+   * scratch array, so routing an event allocates nothing once its series exist. Lookups go through
+   * nested maps (model → version → key → value) rather than a `model|version|k=v` string per series:
+   * building those strings would cost an allocation and a hash of a long string per series per event.
+   */
+  route(event: ScoredEvent, out: T[]): number {
+    const model = this.modelRoutes(event.model);
+    let version = model.versions.get(event.version);
+    if (version === undefined) version = this.addVersion(model, event.model, event.version);
+    out[0] = version.all;
+    let n = 1;
+    const keys = this.config.segmentKeys;
+    const segment = event.segment;
+    for (let k = 0; k < keys.length; k += 1) {
+      const key = keys[k] as string;
+      if (!Object.hasOwn(segment, key)) continue;
+      const value = segment[key] as string;
+      const values = version.byKey[k] as Map<string, T>;
+      let series = values.get(value);
+      if (series === undefined) series = this.newValue(model, event.model, event.version, k, value, values);
+      out[n] = series;
+      n += 1;
+    }
+    return n;
+  }
+
+  /** Puts back a series of a restored state. False (and nothing kept) if its segment key is no longer configured. */
+  restore(id: SeriesId, series: T): boolean {
+    const model = this.modelRoutes(id.model);
+    if (id.segment === ALL_SEGMENT) {
+      if (model.versions.has(id.version)) throw badArgument('series', `holds ${describe(id)} twice`);
+      model.versions.set(id.version, { all: series, byKey: this.config.segmentKeys.map(() => new Map<string, T>()) });
+      this.remember(model, id, series);
+      return true;
+    }
+    const split = splitSegment(id.segment);
+    if (split === undefined) throw badArgument('series.segment', `must be "all" or "key=value", got ${JSON.stringify(id.segment)}`);
+    const k = this.config.segmentKeys.indexOf(split.key);
+    if (k < 0) return false;
+    const version = model.versions.get(id.version);
+    if (version === undefined) throw badArgument('series', `holds ${describe(id)} before the "all" series of its version`);
+    const values = version.byKey[k] as Map<string, T>;
+    if (values.has(split.value)) throw badArgument('series', `holds ${describe(id)} twice`);
+    values.set(split.value, series);
+    this.remember(model, id, series);
+    return true;
+  }
+
+  /** Puts back folded counts of a restored state. False if the key is no longer configured. */
+  restoreFolded(model: string, key: string, count: number): boolean {
+    const k = this.config.segmentKeys.indexOf(key);
+    if (k < 0) return false;
+    const routes = this.modelRoutes(model);
+    routes.folded[k] = (routes.folded[k] as number) + count;
+    return true;
+  }
+
+  /** Every series, in the order it was made (or restored). */
+  series(): readonly RoutedSeries<T>[] {
+    return this.made;
+  }
+
+  /** Folded events per model and key; only non-zero counts. */
+  folded(): Record<string, Record<string, number>> {
+    const out: Record<string, Record<string, number>> = {};
+    for (const [model, routes] of this.models) {
+      routes.folded.forEach((count, k) => {
+        if (count === 0) return;
+        (out[model] ??= {})[this.config.segmentKeys[k] as string] = count;
+      });
+    }
+    return out;
+  }
+
+  seriesCount(model: string): number {
+    return this.models.get(model)?.seriesCount ?? 0;
+  }
+
+  private modelRoutes(model: string): ModelRoutes<T> {
+    let routes = this.models.get(model);
+    if (routes === undefined) {
+      routes = { versions: new Map(), seriesCount: 0, folded: this.config.segmentKeys.map(() => 0) };
+      this.models.set(model, routes);
+    }
+    return routes;
+  }
+
+  private addVersion(model: ModelRoutes<T>, modelName: string, version: string): VersionRoutes<T> {
+    const id: SeriesId = { model: modelName, version, segment: ALL_SEGMENT };
+    const routes: VersionRoutes<T> = { all: this.create(id), byKey: this.config.segmentKeys.map(() => new Map<string, T>()) };
+    model.versions.set(version, routes);
+    this.remember(model, id, routes.all);
+    return routes;
+  }
+
+  private newValue(model: ModelRoutes<T>, modelName: string, version: string, k: number, value: string, values: Map<string, T>): T {
+    const key = this.config.segmentKeys[k] as string;
+    if (value !== OTHER_SEGMENT_VALUE && model.seriesCount < this.config.maxSeries) {
+      return this.make(model, { model: modelName, version, segment: `${key}=${value}` }, value, values);
+    }
+    if (value !== OTHER_SEGMENT_VALUE) model.folded[k] = (model.folded[k] as number) + 1;
+    const other = values.get(OTHER_SEGMENT_VALUE);
+    if (other !== undefined) return other;
+    return this.make(model, { model: modelName, version, segment: `${key}=${OTHER_SEGMENT_VALUE}` }, OTHER_SEGMENT_VALUE, values);
+  }
+
+  private make(model: ModelRoutes<T>, id: SeriesId, value: string, values: Map<string, T>): T {
+    const series = this.create(id);
+    values.set(value, series);
+    this.remember(model, id, series);
+    return series;
+  }
+
+  private remember(model: ModelRoutes<T>, id: SeriesId, series: T): void {
+    model.seriesCount += 1;
+    this.made.push({ id, series });
+  }
+}
+
+export function describe(id: SeriesId): string {
+  return `${JSON.stringify(id.model)}/${JSON.stringify(id.version)}/${JSON.stringify(id.segment)}`;
+}
