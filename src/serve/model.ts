@@ -1,0 +1,61 @@
+/**
+ * What src/serve reads from the watcher: a few methods the partition state will satisfy, so the HTTP layer
+ * and the metrics never learn about Kafka, checkpoints or how partitions are merged. Every call is made
+ * when Prometheus scrapes or a client asks, never per message, so an implementation may merge the
+ * partitions' windows inside series() instead of keeping a merged copy up to date.
+ */
+import type { ReferenceSegment } from '../reference/index.js';
+import type { MarginWindows } from '../sketch/index.js';
+
+export interface SeriesKey {
+  readonly model: string;
+  readonly version: string;
+  /** `all`, or `key=value` (DESIGN: one slicing key at a time). */
+  readonly segment: string;
+}
+
+export interface SeriesSnapshot extends SeriesKey {
+  /**
+   * Exact count of events routed to this series, late and future ones included, since the state was
+   * created (restored checkpoints carry it on). Exported as a counter: it must never go down while the
+   * process owns the series; a partition moving away is a counter reset, which Prometheus expects.
+   */
+  readonly events: number;
+  /**
+   * The series' windows, one partition's or several merged. The low-margin thresholds are its
+   * config.thresholds: no second list that could disagree with the counters.
+   */
+  readonly windows: MarginWindows;
+  /** The reference this series is compared with (its own segment or the version's `all`); undefined when none is loaded. */
+  readonly reference: ReferenceSegment | undefined;
+}
+
+export interface Readiness {
+  readonly ready: boolean;
+  /** Why not ready, in words for an operator (e.g. "partition orders-3 is restoring"); empty when ready. */
+  readonly reasons: readonly string[];
+}
+
+export interface PartitionInfo {
+  readonly topic: string;
+  readonly partition: number;
+  /** Messages between the committed position and the high watermark; null until the broker has said. */
+  readonly lagMessages: number | null;
+  /** Wall time (ms) of the last checkpoint written; null before the first. The age is taken against the clock serve is given. */
+  readonly lastCheckpointMs: number | null;
+}
+
+export interface WatchedSeriesSource {
+  /** One snapshot per series; partitions already merged. */
+  series(): Iterable<SeriesSnapshot>;
+  /** Rejected messages by reason code (src/events/reasons.ts); counts only ever grow. */
+  rejections(): ReadonlyMap<string, number>;
+  readiness(): Readiness;
+  partitions(): readonly PartitionInfo[];
+}
+
+/** A named view of the windows, e.g. `{ name: '5m', durationMs: 300_000 }`; the name is the `window` label. */
+export interface ViewSpec {
+  readonly name: string;
+  readonly durationMs: number;
+}
