@@ -1,0 +1,100 @@
+/**
+ * The shape of the YAML file, field by field: types, ranges and defaults. Checks that relate fields to
+ * each other (topics vs dead-letter topic, windows vs history) live in validate.ts, where the message
+ * can name both fields and the remedy.
+ */
+import { z } from 'zod';
+import { DEFAULT_DECODE_LIMITS } from '../events/index.js';
+import { DEFAULT_REFERENCE_THRESHOLDS } from '../reference/index.js';
+import { parseDuration } from './durations.js';
+
+/** Every key any section knows, for "did you mean" on a misspelt key. */
+export const KNOWN_KEYS = new Set<string>();
+
+function section<S extends z.ZodRawShape>(shape: S) {
+  for (const key of Object.keys(shape)) KNOWN_KEYS.add(key);
+  return z.strictObject(shape);
+}
+
+const duration = z.unknown().transform((value, ctx) => {
+  const parsed = parseDuration(value);
+  if (parsed.ok) return parsed.ms;
+  ctx.addIssue({ code: 'custom', message: parsed.detail });
+  return z.NEVER;
+});
+
+const name = z.string().min(1, { error: 'must not be empty' });
+const wholeAtLeast = (min: number) => z.number().int({ error: 'must be a whole number' }).min(min, { error: `must be at least ${min}` });
+const names = z.array(name);
+
+export const DEFAULT_WINDOWS: readonly string[] = Object.freeze(['5m', '1h', '24h']);
+export const DEFAULT_MAX_SERIES = 200;
+export const DEFAULT_HTTP_PORT = 9464;
+
+const tls = section({
+  ca: name.nullable().default(null),
+  cert: name.nullable().default(null),
+  key: name.nullable().default(null),
+  rejectUnauthorized: z.boolean().default(true),
+  servername: name.nullable().default(null),
+});
+
+const sasl = section({
+  mechanism: z.enum(['plain', 'scram-sha-256', 'scram-sha-512'], { error: 'must be one of plain, scram-sha-256, scram-sha-512' }),
+  username: name,
+  // Absent here is normal: the password belongs in HEADROOM_KAFKA_SASL_PASSWORD.
+  password: name.optional(),
+});
+
+const kafka = section({
+  brokers: names.min(1, { error: 'must list at least one broker (host:port)' }),
+  clientId: name.default('headroom'),
+  groupId: name.default('headroom'),
+  topics: names.min(1, { error: 'must list at least one topic of scored events' }),
+  outcomeTopics: names.default([]),
+  deadLetterTopic: name.nullable().default(null),
+  // `tls: true` is Node's defaults; `false` and absent are no TLS.
+  tls: z.preprocess((v) => (v === true ? {} : v === false ? null : v), tls.nullable()).default(null),
+  sasl: sasl.nullable().default(null),
+});
+
+const model = section({
+  name: name.max(DEFAULT_DECODE_LIMITS.maxTextLength, { error: `must be at most ${DEFAULT_DECODE_LIMITS.maxTextLength} characters` }),
+  thresholds: z
+    .array(z.number().gt(0, { error: 'must be in (0, 1)' }).lt(1, { error: 'must be in (0, 1)' }))
+    .min(1, { error: 'must hold at least one threshold' })
+    .default([...DEFAULT_REFERENCE_THRESHOLDS]),
+  segmentKeys: names.default([]),
+  reference: name.nullable().default(null),
+  maxSeries: wholeAtLeast(1).default(DEFAULT_MAX_SERIES),
+});
+
+export const configSchema = section({
+  kafka,
+  models: z.array(model).min(1, { error: 'must hold at least one model; leave models out to watch every model with defaults' }).prefault([{ name: '*' }]),
+  windows: z.array(z.string({ error: 'must be a duration such as "5m"' })).min(1, { error: 'must hold at least one window' }).default([...DEFAULT_WINDOWS]),
+  history: section({
+    bucket: duration.prefault('1m'),
+    fineSpan: duration.prefault('2h'),
+    coarseBucket: duration.prefault('1h'),
+    retention: duration.prefault('24h'),
+  }).prefault({}),
+  lateness: duration.prefault('2m'),
+  maxFuture: duration.prefault('5m'),
+  checkpoint: section({
+    dir: name.default('./state'),
+    interval: duration.prefault('5s'),
+  }).prefault({}),
+  http: section({
+    host: name.default('127.0.0.1'),
+    port: wholeAtLeast(0).max(65_535, { error: 'must be at most 65535' }).default(DEFAULT_HTTP_PORT),
+  }).prefault({}),
+  decode: section({
+    maxBytes: wholeAtLeast(1).default(DEFAULT_DECODE_LIMITS.maxBytes),
+    maxTextLength: wholeAtLeast(1).default(DEFAULT_DECODE_LIMITS.maxTextLength),
+    maxIdLength: wholeAtLeast(1).default(DEFAULT_DECODE_LIMITS.maxIdLength),
+    maxSegmentKeys: wholeAtLeast(0).default(DEFAULT_DECODE_LIMITS.maxSegmentKeys),
+  }).prefault({}),
+});
+
+export type ParsedConfig = z.output<typeof configSchema>;

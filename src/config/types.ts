@@ -1,0 +1,87 @@
+/**
+ * The configuration of `headroom watch` after validation: every field present and checked, so callers
+ * never default or check a value again. Durations are milliseconds; paths are as written until
+ * loadConfig resolves them against the config file's directory.
+ */
+import type { DecodeLimits } from '../events/index.js';
+import type { WindowConfig } from '../sketch/index.js';
+import type { Secret } from './secret.js';
+
+export type SaslMechanism = 'plain' | 'scram-sha-256' | 'scram-sha-512';
+
+export interface KafkaTlsConfig {
+  /** PEM files; null leaves Node's default (the system CAs, no client certificate). */
+  readonly ca: string | null;
+  readonly cert: string | null;
+  readonly key: string | null;
+  readonly rejectUnauthorized: boolean;
+  /** Name checked against the broker certificate when it differs from the broker address. */
+  readonly servername: string | null;
+}
+
+export interface KafkaSaslConfig {
+  readonly mechanism: SaslMechanism;
+  readonly username: string;
+  readonly password: Secret;
+}
+
+export interface KafkaConfig {
+  readonly brokers: readonly string[];
+  readonly clientId: string;
+  readonly groupId: string;
+  /** Topics of scored events. */
+  readonly topics: readonly string[];
+  /** Topics of outcome events (delayed labels). */
+  readonly outcomeTopics: readonly string[];
+  /** Where rejected messages are copied; null counts them without copying. */
+  readonly deadLetterTopic: string | null;
+  readonly tls: KafkaTlsConfig | null;
+  readonly sasl: KafkaSaslConfig | null;
+}
+
+export interface ModelConfig {
+  /** Matches event.model exactly; `*` matches every model without an entry of its own. */
+  readonly name: string;
+  /** Sorted, distinct, each in (0, 1). */
+  readonly thresholds: readonly number[];
+  readonly segmentKeys: readonly string[];
+  /** Reference file path; null when the model has none (no comparisons, margins only). */
+  readonly reference: string | null;
+  /** Series per model beyond which new segment values fold into `k=other`. */
+  readonly maxSeries: number;
+  /** The window config of every series of this model: history, lateness and this model's thresholds. */
+  readonly window: WindowConfig;
+}
+
+export interface WindowViewConfig {
+  /** As written in the file (`5m`); the `window` label value of the metrics. */
+  readonly name: string;
+  readonly durationMs: number;
+}
+
+export interface HistoryConfig {
+  readonly bucketMs: number;
+  readonly fineSpanMs: number;
+  readonly coarseBucketMs: number;
+  readonly retentionMs: number;
+}
+
+export interface HeadroomConfig {
+  /** Where the configuration came from (a file path or a label), for messages. */
+  readonly source: string;
+  readonly kafka: KafkaConfig;
+  readonly models: readonly ModelConfig[];
+  readonly windows: readonly WindowViewConfig[];
+  readonly history: HistoryConfig;
+  readonly latenessMs: number;
+  readonly maxFutureMs: number;
+  readonly checkpoint: { readonly dir: string; readonly intervalMs: number };
+  readonly http: { readonly host: string; readonly port: number };
+  readonly decode: DecodeLimits;
+}
+
+export interface ConfigResult {
+  readonly config: HeadroomConfig;
+  /** Settings that work but are probably not meant (e.g. SASL without TLS); print them at start-up. */
+  readonly warnings: readonly string[];
+}
