@@ -42,9 +42,13 @@ export function sortKeys(keys: CheckpointKey[]): CheckpointKey[] {
   return keys.sort((a, b) => (a.topic < b.topic ? -1 : a.topic > b.topic ? 1 : a.partition - b.partition));
 }
 
+export function checkGroup(group: string): void {
+  if (typeof group !== 'string' || group === '') throw badArgument('group', 'must be a non-empty consumer group id', group);
+}
+
 /** Refuses names no store can key on; the same rule for every implementation. */
 export function checkKey(group: string, topic: string, partition: number): void {
-  if (typeof group !== 'string' || group === '') throw badArgument('group', 'must be a non-empty consumer group id', group);
+  checkGroup(group);
   if (typeof topic !== 'string' || topic === '') throw badArgument('topic', 'must be a non-empty topic name', topic);
   if (!Number.isSafeInteger(partition) || partition < 0) throw badArgument('partition', 'must be a non-negative whole number', partition);
 }

@@ -17,7 +17,7 @@
 import { mkdir, open, readdir, readFile, rename, unlink } from 'node:fs/promises';
 import { join } from 'node:path';
 import { HeadroomError } from '../errors.js';
-import { checkKey, closedError, decodeCheckpoint, encodeCheckpoint, sortKeys } from './checkpoint-store.js';
+import { checkGroup, checkKey, closedError, decodeCheckpoint, encodeCheckpoint, sortKeys } from './checkpoint-store.js';
 import type { CheckpointKey, CheckpointStore } from './checkpoint-store.js';
 import { badArgument } from './fail.js';
 import type { PartitionStateJson } from './partition-state.js';
@@ -133,7 +133,7 @@ export class FileCheckpointStore implements CheckpointStore {
 
   list(group: string): Promise<CheckpointKey[]> {
     return this.track(async () => {
-      checkKey(group, 't', 0);
+      checkGroup(group);
       const groupDir = join(this.dir, encodeName(group));
       let names: string[];
       try {

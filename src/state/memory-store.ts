@@ -4,7 +4,7 @@
  * load() returns a fresh object that went through the same checks. Two stores made over one `Backing`
  * see the same checkpoints, which is how a test "restarts" with it.
  */
-import { checkKey, closedError, decodeCheckpoint, encodeCheckpoint, sortKeys } from './checkpoint-store.js';
+import { checkGroup, checkKey, closedError, decodeCheckpoint, encodeCheckpoint, sortKeys } from './checkpoint-store.js';
 import type { CheckpointKey, CheckpointStore } from './checkpoint-store.js';
 import type { PartitionStateJson } from './partition-state.js';
 
@@ -36,7 +36,7 @@ export class MemoryCheckpointStore implements CheckpointStore {
 
   async list(group: string): Promise<CheckpointKey[]> {
     this.open();
-    checkKey(group, 't', 0);
+    checkGroup(group);
     return sortKeys([...this.backing.values()].filter((e) => e.group === group).map(({ topic, partition }) => ({ topic, partition })));
   }
 

@@ -28,7 +28,7 @@ import type { Margins } from '../margin/index.js';
 import { MarginWindows, sameWindowConfig, windowConfig } from '../sketch/index.js';
 import type { AddOutcome, WindowConfig, WindowOptions, WindowState } from '../sketch/index.js';
 import { badArgument, badState } from './fail.js';
-import { SeriesRouter, describe } from './routing.js';
+import { SeriesRouter } from './routing.js';
 import type { RoutingConfig, RoutingOptions, SeriesId } from './routing.js';
 
 export const PARTITION_STATE_FORMAT = 'headroom-partition/1';
@@ -97,8 +97,13 @@ export const partitionStateSchema = z.object({
   series: z.array(seriesSchema),
 });
 
-/** The JSON form of a partition state (windows as WindowState once written by toState()). */
+/** The JSON form of a partition state, as checked on restore (the windows are checked by MarginWindows.fromState). */
 export type PartitionStateJson = z.infer<typeof partitionStateSchema>;
+
+/** What toState() writes: the same, with the windows' state typed. */
+export type SavedPartitionState = Omit<PartitionStateJson, 'series'> & {
+  series: (Omit<PartitionStateJson['series'][number], 'windows'> & { windows: WindowState })[];
+};
 
 /**
  * Checks the shape of a stored state (not yet the windows inside, which fromState() checks). Throws
@@ -118,6 +123,10 @@ class Series {
   constructor(readonly windows: MarginWindows) {}
 }
 
+/**
+ * Offsets are 64-bit, beyond a double's exact range, so they are kept as bigint. The regex refuses what
+ * BigInt() would quietly accept ("0x1f", " 12 "); both cost well under a microsecond an event.
+ */
 function checkOffset(offset: string): bigint {
   if (typeof offset !== 'string' || !/^(0|[1-9][0-9]*)$/.test(offset)) {
     throw badArgument('offset', 'must be a Kafka offset: a non-negative whole number as a decimal string', offset);
@@ -173,6 +182,11 @@ export class PartitionState {
   apply(event: ScoredEvent, margins: Margins, offset: string, nowMs: number): ApplyOutcome {
     const at = checkOffset(offset);
     if (this.next !== null && at < this.next) return 'duplicate';
+    // Checked before anything changes: a throw from the windows halfway through the series would leave
+    // some series counting the event and others not, with the offset not moved on.
+    if (!(Number.isFinite(margins.confidence) && Number.isFinite(event.timeMs) && Number.isFinite(nowMs))) {
+      throw badArgument('event', `needs a finite margin, event time and nowMs, got ${margins.confidence}, ${event.timeMs}, ${nowMs}`);
+    }
     const targets = this.targets;
     const n = this.router.route(event, targets);
     const signed = margins.signed;
@@ -218,7 +232,7 @@ export class PartitionState {
   }
 
   /** Versioned plain JSON; the checkpoint of this partition, offset included. */
-  toState(): PartitionStateJson & { series: (PartitionStateJson['series'][number] & { windows: WindowState })[] } {
+  toState(): SavedPartitionState {
     const c = this.counts();
     return {
       format: PARTITION_STATE_FORMAT,
@@ -363,4 +377,3 @@ function cmp(a: string, b: string): number {
   return a < b ? -1 : a > b ? 1 : 0;
 }
 
-export { describe as describeSeries };

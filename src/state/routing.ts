@@ -132,7 +132,7 @@ export class SeriesRouter<T> {
   restore(id: SeriesId, series: T): boolean {
     const model = this.modelRoutes(id.model);
     if (id.segment === ALL_SEGMENT) {
-      if (model.versions.has(id.version)) throw badArgument('series', `holds ${describe(id)} twice`);
+      if (model.versions.has(id.version)) throw badArgument('series', `holds ${describeSeries(id)} twice`);
       model.versions.set(id.version, { all: series, byKey: this.config.segmentKeys.map(() => new Map<string, T>()) });
       this.remember(model, id, series);
       return true;
@@ -142,9 +142,9 @@ export class SeriesRouter<T> {
     const k = this.config.segmentKeys.indexOf(split.key);
     if (k < 0) return false;
     const version = model.versions.get(id.version);
-    if (version === undefined) throw badArgument('series', `holds ${describe(id)} before the "all" series of its version`);
+    if (version === undefined) throw badArgument('series', `holds ${describeSeries(id)} before the "all" series of its version`);
     const values = version.byKey[k] as Map<string, T>;
-    if (values.has(split.value)) throw badArgument('series', `holds ${describe(id)} twice`);
+    if (values.has(split.value)) throw badArgument('series', `holds ${describeSeries(id)} twice`);
     values.set(split.value, series);
     this.remember(model, id, series);
     return true;
@@ -221,6 +221,6 @@ export class SeriesRouter<T> {
   }
 }
 
-export function describe(id: SeriesId): string {
+export function describeSeries(id: SeriesId): string {
   return `${JSON.stringify(id.model)}/${JSON.stringify(id.version)}/${JSON.stringify(id.segment)}`;
 }

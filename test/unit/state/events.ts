@@ -40,7 +40,7 @@ export function stream(seed: number, n: number): Message[] {
       out.push({ kind: 'reject', reason: r.chance(0.5) ? 'not_json' : 'bad_time' });
       continue;
     }
-    t += r.int(3_000);
+    t += r.int(600);
     const timeMs = r.chance(0.03) ? t - r.int(10 * MIN) : t;
     const segment: Record<string, string> = {};
     if (r.chance(0.9)) segment.line = String(r.int(8));

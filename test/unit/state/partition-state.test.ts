@@ -84,6 +84,10 @@ describe('PartitionState', () => {
     expect(failure(() => s.reject('not_json', '-1'))?.code).toBe('HR_ERR_STATE_ARGUMENT');
     expect(failure(() => s.reject('no_such' as 'not_json', '9'))?.code).toBe('HR_ERR_STATE_ARGUMENT');
     expect(failure(() => s.apply(e, marginsOf(e), '0x10', NOW))?.code).toBe('HR_ERR_STATE_ARGUMENT');
+    // A bad time is refused before any series changes.
+    const before = JSON.stringify(s.toState());
+    expect(failure(() => s.apply({ ...e, timeMs: Number.NaN }, marginsOf(e), '9', NOW))?.code).toBe('HR_ERR_STATE_ARGUMENT');
+    expect(JSON.stringify(s.toState())).toBe(before);
   });
 
   it('counts late and future events at partition level from the all series', () => {
