@@ -6,7 +6,8 @@
 import { z } from 'zod';
 import { DEFAULT_DECODE_LIMITS } from '../events/index.js';
 import { DEFAULT_REFERENCE_THRESHOLDS } from '../reference/index.js';
-import { parseDuration } from './durations.js';
+import { DEFAULT_WINDOW_CONFIG } from '../sketch/index.js';
+import { formatDuration, parseDuration } from './durations.js';
 
 /** Every key any section knows, for "did you mean" on a misspelt key. */
 export const KNOWN_KEYS = new Set<string>();
@@ -74,13 +75,14 @@ export const configSchema = section({
   models: z.array(model).min(1, { error: 'must hold at least one model; leave models out to watch every model with defaults' }).prefault([{ name: '*' }]),
   windows: z.array(z.string({ error: 'must be a duration such as "5m"' })).min(1, { error: 'must hold at least one window' }).default([...DEFAULT_WINDOWS]),
   history: section({
-    bucket: duration.prefault('1m'),
-    fineSpan: duration.prefault('2h'),
-    coarseBucket: duration.prefault('1h'),
-    retention: duration.prefault('24h'),
+    // The sketch's own defaults, so the file and a series built without a config agree.
+    bucket: duration.prefault(formatDuration(DEFAULT_WINDOW_CONFIG.bucketMs)),
+    fineSpan: duration.prefault(formatDuration(DEFAULT_WINDOW_CONFIG.fineSpanMs)),
+    coarseBucket: duration.prefault(formatDuration(DEFAULT_WINDOW_CONFIG.coarseBucketMs)),
+    retention: duration.prefault(formatDuration(DEFAULT_WINDOW_CONFIG.retentionMs)),
   }).prefault({}),
-  lateness: duration.prefault('2m'),
-  maxFuture: duration.prefault('5m'),
+  lateness: duration.prefault(formatDuration(DEFAULT_WINDOW_CONFIG.latenessMs)),
+  maxFuture: duration.prefault(formatDuration(DEFAULT_WINDOW_CONFIG.maxFutureMs)),
   checkpoint: section({
     dir: name.default('./state'),
     interval: duration.prefault('5s'),
