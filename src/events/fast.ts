@@ -26,6 +26,47 @@ export function makeScoredEvent(
   return { id, model, version, timeMs, score, label, segment };
 }
 
+/**
+ * Model, version and segment names repeat on nearly every message, so the character scan is remembered
+ * for the names seen last: pairs of slots picked by length and end characters, each pair holding the two
+ * strings that last passed there. A hit costs one or two comparisons (pointer comparisons for the short
+ * strings JSON.parse internalises); a miss scans as before and takes the pair's first slot. Only strings
+ * that passed are kept, only short ones (so what is held is a few kilobytes whatever the limits), and the
+ * length limit is checked on every call, so the answer is always the rule's own.
+ */
+class PassedTexts {
+  private readonly slots: string[];
+  private readonly pairMask: number;
+
+  constructor(
+    pairs: number,
+    private readonly rule: (text: string, maxLength: number) => string | undefined,
+  ) {
+    this.slots = new Array<string>(2 * pairs).fill('');
+    this.pairMask = 2 * pairs - 2;
+  }
+
+  passes(text: string, maxLength: number): boolean {
+    const n = text.length;
+    if (n === 0 || n > maxLength) return false;
+    const slots = this.slots;
+    const at = (n + 7 * text.charCodeAt(0) + 3 * text.charCodeAt(n - 1)) & this.pairMask;
+    if (slots[at] === text || slots[at + 1] === text) return true;
+    if (this.rule(text, maxLength) !== undefined) return false;
+    if (n <= MAX_REMEMBERED_LENGTH) {
+      slots[at + 1] = slots[at] as string;
+      slots[at] = text;
+    }
+    return true;
+  }
+}
+
+const MAX_REMEMBERED_LENGTH = 64;
+// Powers of two, so the pair index is a mask.
+const names = new PassedTexts(32, textProblem);
+const segmentKeys = new PassedTexts(8, segmentKeyProblem);
+const classNames = new PassedTexts(8, classNameProblem);
+
 function isRecord(value: unknown): value is Record<string, unknown> {
   return typeof value === 'object' && value !== null && !Array.isArray(value);
 }
@@ -61,7 +102,7 @@ function fastScore(value: unknown, maxText: number): Score | undefined {
       for (const name in values) {
         const v = values[name];
         if (typeof v !== 'number' || !(v >= 0) || v === Infinity) return undefined;
-        if (classNameProblem(name, maxText) !== undefined) return undefined;
+        if (!classNames.passes(name, maxText)) return undefined;
       }
       // Checked entries are numbers, so the map can be kept as it came from JSON.parse.
       const checked = values as Record<string, number>;
@@ -96,8 +137,8 @@ function fastSegment(value: unknown, limits: DecodeLimits): Readonly<Record<stri
   for (const key in value) {
     if (++count > limits.maxSegmentKeys) return undefined;
     const v = value[key];
-    if (typeof v !== 'string' || textProblem(v, limits.maxTextLength) !== undefined) return undefined;
-    if (segmentKeyProblem(key, limits.maxTextLength) !== undefined) return undefined;
+    if (typeof v !== 'string' || !names.passes(v, limits.maxTextLength)) return undefined;
+    if (!segmentKeys.passes(key, limits.maxTextLength)) return undefined;
   }
   return value as Record<string, string>;
 }
@@ -106,8 +147,8 @@ export function fastScoredEvent(value: unknown, limits: DecodeLimits, fallbackTi
   if (!isRecord(value)) return undefined;
   const { id, model, version } = value;
   if (typeof id !== 'string' || textProblem(id, limits.maxIdLength) !== undefined) return undefined;
-  if (typeof model !== 'string' || textProblem(model, limits.maxTextLength) !== undefined) return undefined;
-  if (typeof version !== 'string' || textProblem(version, limits.maxTextLength) !== undefined) return undefined;
+  if (typeof model !== 'string' || !names.passes(model, limits.maxTextLength)) return undefined;
+  if (typeof version !== 'string' || !names.passes(version, limits.maxTextLength)) return undefined;
   const timeMs = timeOf(value.time, fallbackTimeMs);
   if (timeMs === undefined) return undefined;
   const score = fastScore(value.score, limits.maxTextLength);

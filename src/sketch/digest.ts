@@ -17,6 +17,7 @@ import { badArgument, badState } from './fail.js';
 import { buildKnots, valueAtWeight, weightUpTo, type Knots } from './knots.js';
 import { DEFAULT_COMPRESSION, DEFAULT_SCALE, isScaleName, MAX_COMPRESSION, MIN_COMPRESSION, type ScaleName } from './scale.js';
 import { parseDigestState, type CentroidTuple, type DigestState } from './serialise.js';
+import { sortFinite } from './sort.js';
 
 export interface DigestOptions {
   /** δ: roughly the number of centroids kept; larger is more accurate and bigger. */
@@ -52,15 +53,17 @@ interface Points {
 
 const NO_ITEMS: Items = EMPTY_CENTROIDS;
 
-/** Buffered points as items; `sort` sorts them natively when it can (copies, so the buffer can be refilled). */
+/**
+ * Buffered points as items; `sort` sorts them (sort.ts) when it can. Sorted in place, not in a copy: the
+ * caller (flush) empties the buffer right after compress(), which keeps nothing of its sources, and with
+ * unit weights the weight column is all ones whatever the order. Keys in the same order as every other
+ * Items object, so the merge pass's property reads stay monomorphic.
+ */
 function pointItems(p: Points | undefined, sort: boolean): Items {
   if (p === undefined || p.count === 0) return NO_ITEMS;
-  if (sort && p.unitWeights) {
-    const x = p.x.slice(0, p.count).sort();
-    return { mean: x, lo: x, hi: x, weight: new Float64Array(p.count).fill(1) };
-  }
   const x = p.x.subarray(0, p.count);
-  return { mean: x, lo: x, hi: x, weight: p.w.subarray(0, p.count) };
+  if (sort && p.unitWeights) sortFinite(x);
+  return { mean: x, weight: p.w.subarray(0, p.count), lo: x, hi: x };
 }
 
 function bufferItems(b: Merged): Items {

@@ -69,6 +69,13 @@ export class MarginWindows {
   private added = 0;
   private late = 0;
   private future = 0;
+  /**
+   * The fine bucket the last add() landed in. Event times mostly arrive in order, so nearly every add
+   * hits the same bucket again and skips the Map lookup. rotate() is the only place that removes fine
+   * buckets, and it forgets this.
+   */
+  private lastStart = Number.NaN;
+  private lastBucket: MarginSummary | undefined;
 
   constructor(options: WindowOptions = {}) {
     this.config = windowConfig(options);
@@ -107,9 +114,12 @@ export class MarginWindows {
    * from the future. A non-finite margin or time throws (the decoder upstream never lets one through).
    */
   add(margin: number, eventTimeMs: number, nowMs: number): AddOutcome {
-    finiteArgument('margin', margin);
-    finiteArgument('eventTimeMs', eventTimeMs);
-    finiteArgument('nowMs', nowMs);
+    // One combined test on the hot path; the per-argument checks name the culprit only when it fails.
+    if (!(Number.isFinite(margin) && Number.isFinite(eventTimeMs) && Number.isFinite(nowMs))) {
+      finiteArgument('margin', margin);
+      finiteArgument('eventTimeMs', eventTimeMs);
+      finiteArgument('nowMs', nowMs);
+    }
     if (eventTimeMs > nowMs + this.config.maxFutureMs) {
       this.future += 1;
       return 'future';
@@ -120,11 +130,13 @@ export class MarginWindows {
     }
     if (this.watermark === null || eventTimeMs > this.watermark) this.moveWatermark(eventTimeMs);
     const start = alignDown(eventTimeMs, this.config.bucketMs);
-    let bucket = this.fine.get(start);
+    let bucket = start === this.lastStart ? this.lastBucket : this.fine.get(start);
     if (bucket === undefined) {
       bucket = new MarginSummary(this.summaryOptions);
       this.fine.set(start, bucket);
     }
+    this.lastStart = start;
+    this.lastBucket = bucket;
     bucket.add(margin);
     this.added += 1;
     return 'added';
@@ -208,6 +220,8 @@ export class MarginWindows {
   }
 
   private rotate(): void {
+    this.lastStart = Number.NaN;
+    this.lastBucket = undefined;
     const w = this.watermark as number;
     const c = this.config;
     const fineStartMs = this.fineStart(w);
