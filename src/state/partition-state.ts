@@ -28,16 +28,31 @@ import type { Margins } from '../margin/index.js';
 import { MarginWindows, sameWindowConfig, windowConfig } from '../sketch/index.js';
 import type { AddOutcome, WindowConfig, WindowOptions, WindowState } from '../sketch/index.js';
 import { badArgument, badState } from './fail.js';
-import { SeriesRouter } from './routing.js';
+import { SeriesRouter, routingConfig } from './routing.js';
 import type { RoutingConfig, RoutingOptions, SeriesId } from './routing.js';
 
 export const PARTITION_STATE_FORMAT = 'headroom-partition/1';
 
-export interface PartitionStateOptions extends RoutingOptions {
+/** `*` names the settings of every model without an entry of its own (as in the config file). */
+export const ANY_MODEL = '*';
+
+/** What a model's series get; src/config's ModelConfig fits as it is. */
+export interface ModelSettings extends RoutingOptions {
+  /** event.model exactly, or ANY_MODEL. */
+  readonly name: string;
+  /** Settings of the model's windows; a restored state must have been saved with the same. */
+  readonly window?: WindowOptions;
+}
+
+export interface PartitionStateOptions {
   readonly topic: string;
   readonly partition: number;
-  /** Settings of every series' windows; a restored state must have been saved with the same. */
-  readonly windows?: WindowOptions;
+  /** Events of a model with no entry here (and no ANY_MODEL entry) are counted as unwatched. */
+  readonly models: readonly ModelSettings[];
+}
+
+interface ResolvedModel extends RoutingConfig {
+  readonly window: WindowConfig;
 }
 
 /** Exact counts of one series. `events` = the windows' added + late + future. */
@@ -49,15 +64,16 @@ export interface SeriesCounts {
   readonly wrong: number;
 }
 
-export interface SeriesSnapshot extends SeriesCounts {
-  readonly id: SeriesId;
+export interface PartitionSeries extends SeriesId, SeriesCounts {
   /** The live windows: read them (view()), do not add to them. */
   readonly windows: MarginWindows;
 }
 
 export interface PartitionCounts {
-  /** Decoded events applied. */
+  /** Decoded events of watched models applied. */
   readonly events: number;
+  /** Decoded events of models without settings: the offset moves past them, nothing else. */
+  readonly unwatched: number;
   readonly late: number;
   readonly future: number;
   readonly rejected: Readonly<Partial<Record<RejectionReason, number>>>;
@@ -65,7 +81,7 @@ export interface PartitionCounts {
   readonly folded: Readonly<Record<string, Readonly<Record<string, number>>>>;
 }
 
-export type ApplyOutcome = AddOutcome | 'duplicate';
+export type ApplyOutcome = AddOutcome | 'unwatched' | 'duplicate';
 
 const count = z.number().int().nonnegative();
 const offsetText = z.string().regex(/^(0|[1-9][0-9]*)$/, 'must be a non-negative whole number written in decimal');
@@ -86,9 +102,9 @@ export const partitionStateSchema = z.object({
   partition: count,
   nextOffset: offsetText.nullable(),
   watermarkMs: z.number().finite().nullable(),
-  routing: z.object({ segmentKeys: z.array(z.string()), maxSeries: z.number().int().positive() }),
   counts: z.object({
     events: count,
+    unwatched: count,
     late: count,
     future: count,
     rejected: z.record(z.string().refine((k: string): boolean => isRejectionReason(k), 'is not a rejection reason'), count),
@@ -137,13 +153,13 @@ function checkOffset(offset: string): bigint {
 export class PartitionState {
   readonly topic: string;
   readonly partition: number;
-  readonly windowConfig: WindowConfig;
-  private readonly router: SeriesRouter<Series>;
+  private readonly router: SeriesRouter<Series, ResolvedModel>;
   /** One scratch array for routing, so that applying an event allocates nothing (see SeriesRouter.route). */
   private readonly targets: Series[] = [];
   private next: bigint | null = null;
   private watermark: number | null = null;
   private events = 0;
+  private unwatched = 0;
   private late = 0;
   private future = 0;
   private readonly rejected = new Map<RejectionReason, number>();
@@ -155,13 +171,23 @@ export class PartitionState {
     }
     this.topic = options.topic;
     this.partition = options.partition;
-    this.windowConfig = windowConfig(options.windows ?? {});
-    const config = this.windowConfig;
-    this.router = new SeriesRouter<Series>(options, () => new Series(new MarginWindows(config)));
+    if (!Array.isArray(options.models)) throw badArgument('models', 'must be an array of model settings', options.models);
+    const byName = new Map<string, ResolvedModel>();
+    options.models.forEach((m, i) => {
+      if (typeof m?.name !== 'string' || m.name === '') throw badArgument(`models[${i}].name`, 'must be a model name or "*"', m?.name);
+      if (byName.has(m.name)) throw badArgument(`models[${i}].name`, `repeats ${JSON.stringify(m.name)}`, m.name);
+      byName.set(m.name, { ...routingConfig(m, `models[${i}].`), window: windowConfig(m.window ?? {}) });
+    });
+    const any = byName.get(ANY_MODEL);
+    this.router = new SeriesRouter<Series, ResolvedModel>(
+      (model) => byName.get(model) ?? any,
+      (_id, settings) => new Series(new MarginWindows(settings.window)),
+    );
   }
 
-  get routing(): RoutingConfig {
-    return this.router.config;
+  /** The settings a model's series get; undefined when it is not watched. */
+  modelSettings(model: string): (RoutingConfig & { readonly window: WindowConfig }) | undefined {
+    return this.router.settings(model);
   }
 
   /** The offset to consume next; null before the first message. */
@@ -189,6 +215,11 @@ export class PartitionState {
     }
     const targets = this.targets;
     const n = this.router.route(event, targets);
+    if (n === 0) {
+      this.unwatched += 1;
+      this.next = at + 1n;
+      return 'unwatched';
+    }
     const signed = margins.signed;
     let outcome: AddOutcome = 'added';
     for (let i = 0; i < n; i += 1) {
@@ -223,12 +254,12 @@ export class PartitionState {
   counts(): PartitionCounts {
     const rejected: Partial<Record<RejectionReason, number>> = {};
     for (const [reason, n] of [...this.rejected].sort((a, b) => (a[0] < b[0] ? -1 : 1))) rejected[reason] = n;
-    return { events: this.events, late: this.late, future: this.future, rejected, folded: this.router.folded() };
+    return { events: this.events, unwatched: this.unwatched, late: this.late, future: this.future, rejected, folded: this.router.folded() };
   }
 
   /** Every series in the order it was made. */
-  series(): SeriesSnapshot[] {
-    return this.router.series().map(({ id, series: s }) => ({ id, events: s.events, labelled: s.labelled, wrong: s.wrong, windows: s.windows }));
+  series(): PartitionSeries[] {
+    return this.router.series().map(({ id, series: s }) => ({ ...id, events: s.events, labelled: s.labelled, wrong: s.wrong, windows: s.windows }));
   }
 
   /** Versioned plain JSON; the checkpoint of this partition, offset included. */
@@ -240,8 +271,7 @@ export class PartitionState {
       partition: this.partition,
       nextOffset: this.nextOffset,
       watermarkMs: this.watermark,
-      routing: { segmentKeys: [...this.router.config.segmentKeys], maxSeries: this.router.config.maxSeries },
-      counts: { events: c.events, late: c.late, future: c.future, rejected: { ...c.rejected }, folded: structuredClone(c.folded) },
+      counts: { events: c.events, unwatched: c.unwatched, late: c.late, future: c.future, rejected: { ...c.rejected }, folded: structuredClone(c.folded) },
       series: this.router.series().map(({ id, series: s }) => ({
         model: id.model,
         version: id.version,
@@ -256,10 +286,10 @@ export class PartitionState {
 
   /**
    * A state saved by toState(), checked field by field (HR_ERR_STATE_INVALID names the field). The
-   * options are today's configuration: topic and partition must match the state's, and so must the
-   * window settings (else the restored windows could not be merged with new ones: change them only
-   * together with removing the checkpoints). Segment keys and maxSeries may change: series and folded
-   * counts of a key no longer configured are dropped, a new key starts empty.
+   * options are today's configuration: topic and partition must match the state's, and so must each
+   * model's window settings (else the restored windows could not be merged with new ones: change them
+   * only together with removing the checkpoints). Segment keys, maxSeries and the model list may change:
+   * series and folded counts of a model or key no longer configured are dropped, a new one starts empty.
    */
   static fromState(value: unknown, options: PartitionStateOptions): PartitionState {
     const s = parsePartitionState(value);
@@ -269,6 +299,7 @@ export class PartitionState {
     state.next = s.nextOffset === null ? null : BigInt(s.nextOffset);
     state.watermark = s.watermarkMs;
     state.events = s.counts.events;
+    state.unwatched = s.counts.unwatched;
     state.late = s.counts.late;
     state.future = s.counts.future;
     for (const [reason, n] of Object.entries(s.counts.rejected)) state.rejected.set(reason as RejectionReason, n);
@@ -277,6 +308,8 @@ export class PartitionState {
     }
     s.series.forEach((entry, i) => {
       const path = `state.series[${i}]`;
+      const settings = state.router.settings(entry.model);
+      if (settings === undefined) return; // the model is no longer watched
       let windows: MarginWindows;
       try {
         windows = MarginWindows.fromState(entry.windows, `${path}.windows`);
@@ -284,8 +317,8 @@ export class PartitionState {
         if (isHeadroomError(error)) throw badState(`${path}.windows`, `is invalid (${error.message})`, error);
         throw error;
       }
-      if (!sameWindowConfig(windows.config, state.windowConfig)) {
-        throw badState(`${path}.windows.config`, 'differs from the configured window settings; restore with the settings it was saved with, or remove the checkpoint to start this partition afresh');
+      if (!sameWindowConfig(windows.config, settings.window)) {
+        throw badState(`${path}.windows.config`, `differs from the window settings of model ${JSON.stringify(entry.model)}; restore with the settings it was saved with, or remove the checkpoint to start this partition afresh`);
       }
       const w = windows.counters();
       if (w.added + w.late + w.future !== entry.events) {
@@ -313,8 +346,7 @@ function issueField(path: readonly PropertyKey[], root: string): string {
   return out;
 }
 
-export interface SeriesView extends SeriesCounts {
-  readonly id: SeriesId;
+export interface SeriesView extends SeriesId, SeriesCounts {
   /** A fresh merged copy: the partitions' windows are not changed, and later changes to them do not show. */
   readonly windows: MarginWindows;
 }
@@ -333,8 +365,9 @@ export interface MergedView {
  * (MarginWindows.merge) and every count added, so counts equal one stream's exactly. Off the hot path.
  */
 export function mergeView(states: readonly PartitionState[]): MergedView {
-  const byId = new Map<string, { id: SeriesId; events: number; labelled: number; wrong: number; windows: MarginWindows }>();
+  const byId = new Map<string, { model: string; version: string; segment: string; events: number; labelled: number; wrong: number; windows: MarginWindows }>();
   let events = 0;
+  let unwatched = 0;
   let late = 0;
   let future = 0;
   let watermarkMs: number | null = null;
@@ -343,6 +376,7 @@ export function mergeView(states: readonly PartitionState[]): MergedView {
   for (const state of states) {
     const c = state.counts();
     events += c.events;
+    unwatched += c.unwatched;
     late += c.late;
     future += c.future;
     for (const [reason, n] of Object.entries(c.rejected) as [RejectionReason, number][]) rejected[reason] = (rejected[reason] ?? 0) + n;
@@ -353,10 +387,10 @@ export function mergeView(states: readonly PartitionState[]): MergedView {
     if (state.watermarkMs !== null && (watermarkMs === null || state.watermarkMs > watermarkMs)) watermarkMs = state.watermarkMs;
     for (const s of state.series()) {
       // NUL cannot occur in names (the decoder refuses control characters), so the key is unambiguous.
-      const key = `${s.id.model}\u0000${s.id.version}\u0000${s.id.segment}`;
+      const key = `${s.model}\u0000${s.version}\u0000${s.segment}`;
       let view = byId.get(key);
       if (view === undefined) {
-        view = { id: s.id, events: 0, labelled: 0, wrong: 0, windows: new MarginWindows(s.windows.config) };
+        view = { model: s.model, version: s.version, segment: s.segment, events: 0, labelled: 0, wrong: 0, windows: new MarginWindows(s.windows.config) };
         byId.set(key, view);
       }
       view.events += s.events;
@@ -365,8 +399,8 @@ export function mergeView(states: readonly PartitionState[]): MergedView {
       view.windows.merge(s.windows);
     }
   }
-  const series = [...byId.values()].sort((a, b) => compareIds(a.id, b.id));
-  return { partitions: states.length, counts: { events, late, future, rejected, folded }, watermarkMs, series };
+  const series = [...byId.values()].sort(compareIds);
+  return { partitions: states.length, counts: { events, unwatched, late, future, rejected, folded }, watermarkMs, series };
 }
 
 function compareIds(a: SeriesId, b: SeriesId): number {

@@ -15,6 +15,10 @@
  * segments line up) lands in `k=other` with the folded values, and is not counted as folded: it was
  * not turned away, it just shares its name with the place the others go.
  *
+ * Settings are per model (segment keys, cap), looked up when an event's model is first seen. A model
+ * without settings is not watched: route() returns no series for it (and keeps nothing, so a producer
+ * inventing model names cannot grow memory).
+ *
  * The cap is per router, i.e. per Kafka partition: partitions route on their own, so a merged view
  * may hold up to (partitions × maxSeries) series of a model, and a value folded in one partition may
  * have its own series in another (its merged `k=value` then undercounts and `k=other` holds the rest).
@@ -22,7 +26,7 @@
 import type { ScoredEvent } from '../events/index.js';
 import { ALL_SEGMENT } from '../reference/format.js';
 import { OTHER_SEGMENT_VALUE } from '../reference/options.js';
-import { badArgument } from './fail.js';
+import { badArgument, badArgument as fail } from './fail.js';
 
 export const DEFAULT_MAX_SERIES = 200;
 export { ALL_SEGMENT, OTHER_SEGMENT_VALUE };
@@ -46,7 +50,9 @@ export interface RoutingConfig {
   readonly maxSeries: number;
 }
 
-export function routingConfig(options: RoutingOptions = {}): RoutingConfig {
+/** Defaults filled in and checked; HR_ERR_STATE_ARGUMENT names the field, under `path`. */
+export function routingConfig(options: RoutingOptions = {}, path = ''): RoutingConfig {
+  const badArgument = (field: string, detail: string, value?: unknown) => fail(`${path}${field}`, detail, value);
   const segmentKeys = options.segmentKeys ?? [];
   if (!Array.isArray(segmentKeys)) throw badArgument('segmentKeys', 'must be an array of names', segmentKeys);
   segmentKeys.forEach((key, i) => {
@@ -69,11 +75,12 @@ export function splitSegment(segment: string): { readonly key: string; readonly 
 
 interface VersionRoutes<T> {
   readonly all: T;
-  /** Per configured key (by index in segmentKeys): value → series; `other` sits here too once made. */
+  /** Per configured key (by index in the model's segmentKeys): value → series; `other` sits here too once made. */
   readonly byKey: Map<string, T>[];
 }
 
-interface ModelRoutes<T> {
+interface ModelRoutes<T, S> {
+  readonly settings: S;
   readonly versions: Map<string, VersionRoutes<T>>;
   seriesCount: number;
   /** Folded events per key index. */
@@ -86,34 +93,35 @@ export interface RoutedSeries<T> {
 }
 
 /**
- * Routes events to series made by `create`. Generic in the series so that it stays a pure, testable
- * piece: PartitionState hands it a factory of windows and counters.
+ * Routes events to series made by `create`. Generic in the series and in the per-model settings so
+ * that it stays a pure, testable piece: PartitionState hands it windows and counters, and settings
+ * that carry each model's window config beside its routing.
  */
-export class SeriesRouter<T> {
-  readonly config: RoutingConfig;
-  private readonly models = new Map<string, ModelRoutes<T>>();
+export class SeriesRouter<T, S extends RoutingConfig = RoutingConfig> {
+  private readonly models = new Map<string, ModelRoutes<T, S>>();
   private readonly made: RoutedSeries<T>[] = [];
 
+  /** `settingsOf` returns a model's settings (checked, e.g. by routingConfig()) or undefined when it is not watched. */
   constructor(
-    options: RoutingOptions,
-    private readonly create: (id: SeriesId) => T,
-  ) {
-    this.config = routingConfig(options);
-  }
+    private readonly settingsOf: (model: string) => S | undefined,
+    private readonly create: (id: SeriesId, settings: S) => T,
+  ) {}
 
   /**
-   * Writes the series `event` feeds into `out` from index 0 and returns how many. The caller keeps one
-   * scratch array, so routing an event allocates nothing once its series exist. Lookups go through
-   * nested maps (model → version → key → value) rather than a `model|version|k=v` string per series:
-   * building those strings would cost an allocation and a hash of a long string per series per event.
+   * Writes the series `event` feeds into `out` from index 0 and returns how many (0: its model is not
+   * watched). The caller keeps one scratch array, so routing an event allocates nothing once its series
+   * exist. Lookups go through nested maps (model → version → key → value) rather than a
+   * `model|version|k=v` string per series: building those strings would cost an allocation and a hash
+   * of a long string per series per event.
    */
   route(event: ScoredEvent, out: T[]): number {
     const model = this.modelRoutes(event.model);
+    if (model === undefined) return 0;
     let version = model.versions.get(event.version);
     if (version === undefined) version = this.addVersion(model, event.model, event.version);
     out[0] = version.all;
     let n = 1;
-    const keys = this.config.segmentKeys;
+    const keys = model.settings.segmentKeys;
     const segment = event.segment;
     for (let k = 0; k < keys.length; k += 1) {
       const key = keys[k] as string;
@@ -128,18 +136,27 @@ export class SeriesRouter<T> {
     return n;
   }
 
-  /** Puts back a series of a restored state. False (and nothing kept) if its segment key is no longer configured. */
+  /** The settings of a model, or undefined when it is not watched. */
+  settings(model: string): S | undefined {
+    return this.models.get(model)?.settings ?? this.settingsOf(model);
+  }
+
+  /**
+   * Puts back a series of a restored state. False (and nothing kept) when its model is no longer watched
+   * or its segment key no longer configured for the model.
+   */
   restore(id: SeriesId, series: T): boolean {
     const model = this.modelRoutes(id.model);
+    if (model === undefined) return false;
     if (id.segment === ALL_SEGMENT) {
       if (model.versions.has(id.version)) throw badArgument('series', `holds ${describeSeries(id)} twice`);
-      model.versions.set(id.version, { all: series, byKey: this.config.segmentKeys.map(() => new Map<string, T>()) });
+      model.versions.set(id.version, { all: series, byKey: model.settings.segmentKeys.map(() => new Map<string, T>()) });
       this.remember(model, id, series);
       return true;
     }
     const split = splitSegment(id.segment);
     if (split === undefined) throw badArgument('series.segment', `must be "all" or "key=value", got ${JSON.stringify(id.segment)}`);
-    const k = this.config.segmentKeys.indexOf(split.key);
+    const k = model.settings.segmentKeys.indexOf(split.key);
     if (k < 0) return false;
     const version = model.versions.get(id.version);
     if (version === undefined) throw badArgument('series', `holds ${describeSeries(id)} before the "all" series of its version`);
@@ -150,11 +167,11 @@ export class SeriesRouter<T> {
     return true;
   }
 
-  /** Puts back folded counts of a restored state. False if the key is no longer configured. */
+  /** Puts back folded counts of a restored state. False if the model or key is no longer configured. */
   restoreFolded(model: string, key: string, count: number): boolean {
-    const k = this.config.segmentKeys.indexOf(key);
-    if (k < 0) return false;
     const routes = this.modelRoutes(model);
+    const k = routes === undefined ? -1 : routes.settings.segmentKeys.indexOf(key);
+    if (routes === undefined || k < 0) return false;
     routes.folded[k] = (routes.folded[k] as number) + count;
     return true;
   }
@@ -170,7 +187,7 @@ export class SeriesRouter<T> {
     for (const [model, routes] of this.models) {
       routes.folded.forEach((count, k) => {
         if (count === 0) return;
-        (out[model] ??= {})[this.config.segmentKeys[k] as string] = count;
+        (out[model] ??= {})[routes.settings.segmentKeys[k] as string] = count;
       });
     }
     return out;
@@ -180,26 +197,28 @@ export class SeriesRouter<T> {
     return this.models.get(model)?.seriesCount ?? 0;
   }
 
-  private modelRoutes(model: string): ModelRoutes<T> {
+  private modelRoutes(model: string): ModelRoutes<T, S> | undefined {
     let routes = this.models.get(model);
     if (routes === undefined) {
-      routes = { versions: new Map(), seriesCount: 0, folded: this.config.segmentKeys.map(() => 0) };
+      const settings = this.settingsOf(model);
+      if (settings === undefined) return undefined;
+      routes = { settings, versions: new Map(), seriesCount: 0, folded: settings.segmentKeys.map(() => 0) };
       this.models.set(model, routes);
     }
     return routes;
   }
 
-  private addVersion(model: ModelRoutes<T>, modelName: string, version: string): VersionRoutes<T> {
+  private addVersion(model: ModelRoutes<T, S>, modelName: string, version: string): VersionRoutes<T> {
     const id: SeriesId = { model: modelName, version, segment: ALL_SEGMENT };
-    const routes: VersionRoutes<T> = { all: this.create(id), byKey: this.config.segmentKeys.map(() => new Map<string, T>()) };
+    const routes: VersionRoutes<T> = { all: this.create(id, model.settings), byKey: model.settings.segmentKeys.map(() => new Map<string, T>()) };
     model.versions.set(version, routes);
     this.remember(model, id, routes.all);
     return routes;
   }
 
-  private newValue(model: ModelRoutes<T>, modelName: string, version: string, k: number, value: string, values: Map<string, T>): T {
-    const key = this.config.segmentKeys[k] as string;
-    if (value !== OTHER_SEGMENT_VALUE && model.seriesCount < this.config.maxSeries) {
+  private newValue(model: ModelRoutes<T, S>, modelName: string, version: string, k: number, value: string, values: Map<string, T>): T {
+    const key = model.settings.segmentKeys[k] as string;
+    if (value !== OTHER_SEGMENT_VALUE && model.seriesCount < model.settings.maxSeries) {
       return this.make(model, { model: modelName, version, segment: `${key}=${value}` }, value, values);
     }
     if (value !== OTHER_SEGMENT_VALUE) model.folded[k] = (model.folded[k] as number) + 1;
@@ -208,14 +227,14 @@ export class SeriesRouter<T> {
     return this.make(model, { model: modelName, version, segment: `${key}=${OTHER_SEGMENT_VALUE}` }, OTHER_SEGMENT_VALUE, values);
   }
 
-  private make(model: ModelRoutes<T>, id: SeriesId, value: string, values: Map<string, T>): T {
-    const series = this.create(id);
+  private make(model: ModelRoutes<T, S>, id: SeriesId, value: string, values: Map<string, T>): T {
+    const series = this.create(id, model.settings);
     values.set(value, series);
     this.remember(model, id, series);
     return series;
   }
 
-  private remember(model: ModelRoutes<T>, id: SeriesId, series: T): void {
+  private remember(model: ModelRoutes<T, S>, id: SeriesId, series: T): void {
     model.seriesCount += 1;
     this.made.push({ id, series });
   }

@@ -24,7 +24,7 @@ export interface StoreHarness {
 
 /** A small real state of `topic`/`partition`, `n` events in. */
 export function sampleState(topic: string, partition: number, n: number): PartitionStateJson {
-  const s = new PartitionState({ topic, partition, segmentKeys: ['line'] });
+  const s = new PartitionState({ topic, partition, models: [{ name: '*', segmentKeys: ['line'] }] });
   for (let i = 0; i < n; i += 1) {
     const e = scored((i % 10) / 10, { timeMs: T0 + i * 1000, segment: { line: String(i % 3) }, label: i % 2 === 0 ? 1 : 0 });
     s.apply(e, marginsOf(e), String(100 + i), T0 + 60 * MIN);
@@ -64,7 +64,7 @@ export function checkpointStoreContract(name: string, makeHarness: () => Promise
       const back = await h.store.load('g', 'scores', 2);
       expect(back).toEqual(JSON.parse(JSON.stringify(state)));
       expect(back).not.toBe(state);
-      const restored = PartitionState.fromState(back, { topic: 'scores', partition: 2, segmentKeys: ['line'] });
+      const restored = PartitionState.fromState(back, { topic: 'scores', partition: 2, models: [{ name: '*', segmentKeys: ['line'] }] });
       expect(restored.nextOffset).toBe('141');
       expect(restored.counts().events).toBe(40);
     });

@@ -13,7 +13,7 @@ import { rng } from '../events/prng.js';
 import { marginsOf, MIN, stream, T0 } from './events.js';
 import type { Message } from './events.js';
 
-const OPTIONS: PartitionStateOptions = { topic: 'scores', partition: 4, segmentKeys: ['line', 'shift'], maxSeries: 10 };
+const OPTIONS: PartitionStateOptions = { topic: 'scores', partition: 4, models: [{ name: 'fraud', segmentKeys: ['line', 'shift'], maxSeries: 10 }, { name: 'churn', segmentKeys: ['line'] }] };
 const NOW = T0 + 365 * 24 * 60 * MIN;
 const GROUP = 'headroom';
 
@@ -30,7 +30,7 @@ function exactFigures(state: PartitionState): unknown {
     watermarkMs: state.watermarkMs,
     series: state.series().map((s) => {
       const day = s.windows.view(24 * 60 * MIN).summary;
-      return [s.id, s.events, s.labelled, s.wrong, s.windows.counters(), day.count, day.countBelow(0.1), day.countBelow(0.2), day.min, day.max];
+      return [s.model, s.version, s.segment, s.events, s.labelled, s.wrong, s.windows.counters(), day.count, day.countBelow(0.1), day.countBelow(0.2), day.min, day.max];
     }),
   };
 }

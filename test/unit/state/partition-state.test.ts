@@ -1,11 +1,13 @@
 import { describe, expect, it } from 'vitest';
 import { isHeadroomError } from '../../../src/errors.js';
 import { mergeView, PARTITION_STATE_FORMAT, PartitionState } from '../../../src/state/partition-state.js';
-import type { PartitionStateOptions } from '../../../src/state/partition-state.js';
+import type { ModelConfig } from '../../../src/config/types.js';
+import type { ModelSettings, PartitionStateOptions } from '../../../src/state/partition-state.js';
 import { marginsOf, MIN, scored, stream, T0 } from './events.js';
 import type { Message } from './events.js';
 
-const OPTIONS: PartitionStateOptions = { topic: 'scores', partition: 0, segmentKeys: ['line', 'shift'], maxSeries: 12 };
+const OPTIONS: PartitionStateOptions = { topic: 'scores', partition: 0, models: [{ name: '*', segmentKeys: ['line', 'shift'], maxSeries: 12 }] };
+const withModels = (models: PartitionStateOptions['models'], partition = 0): PartitionStateOptions => ({ topic: 'scores', partition, models });
 const NOW = T0 + 365 * 24 * 60 * MIN; // far ahead: nothing is from the future unless a test says so
 
 function feed(state: PartitionState, messages: readonly Message[], from = 0): void {
@@ -27,7 +29,7 @@ function summary(state: PartitionState | ReturnType<typeof mergeView>) {
       .map((s) => {
         const view = s.windows.view(60 * MIN);
         return {
-          id: `${s.id.model}/${s.id.version}/${s.id.segment}`,
+          id: `${s.model}/${s.version}/${s.segment}`,
           events: s.events,
           labelled: s.labelled,
           wrong: s.wrong,
@@ -62,9 +64,9 @@ describe('PartitionState', () => {
     expect(s.apply(c, marginsOf(c), '13', NOW)).toBe('added'); // a gap (compaction, transaction markers) is fine
     expect(s.nextOffset).toBe('14');
     expect(s.watermarkMs).toBe(T0 + 2000);
-    const bySegment = Object.fromEntries(s.series().map((x) => [x.id.segment, [x.events, x.labelled, x.wrong]]));
+    const bySegment = Object.fromEntries(s.series().map((x) => [x.segment, [x.events, x.labelled, x.wrong]]));
     expect(bySegment).toEqual({ all: [3, 2, 1], 'line=1': [2, 2, 1], 'shift=day': [1, 0, 0] });
-    expect(s.counts()).toEqual({ events: 3, late: 0, future: 0, rejected: {}, folded: {} });
+    expect(s.counts()).toEqual({ events: 3, unwatched: 0, late: 0, future: 0, rejected: {}, folded: {} });
   });
 
   it('a rejection advances the offset and is counted by reason; an offset seen before is not counted again', () => {
@@ -79,7 +81,7 @@ describe('PartitionState', () => {
     // Redelivered offsets change nothing.
     expect(s.reject('not_json', '3')).toBe(false);
     expect(s.apply(e, marginsOf(e), '1', NOW)).toBe('duplicate');
-    expect(s.counts()).toEqual({ events: 1, late: 0, future: 0, rejected: { bad_time: 1, not_json: 2 }, folded: {} });
+    expect(s.counts()).toEqual({ events: 1, unwatched: 0, late: 0, future: 0, rejected: { bad_time: 1, not_json: 2 }, folded: {} });
     expect(s.nextOffset).toBe('4');
     expect(failure(() => s.reject('not_json', '-1'))?.code).toBe('HR_ERR_STATE_ARGUMENT');
     expect(failure(() => s.reject('no_such' as 'not_json', '9'))?.code).toBe('HR_ERR_STATE_ARGUMENT');
@@ -132,6 +134,7 @@ describe('PartitionState', () => {
       ['state.series[0].windows', (x) => (x.series[0].windows.fine = 'x')],
       ['state.series[1].events', (x) => (x.series[1].events += 1)],
       ['state.series[0].windows.config', (x) => (x.series[0].windows.config.bucketMs = 30_000)],
+      ['state.counts.unwatched', (x) => delete x.counts.unwatched],
       ['state.topic', (x) => (x.topic = 'other-topic')],
       ['state.partition', (x) => (x.partition = 3)],
       ['state.series[2]', (x) => (x.series[2] = { ...x.series[1] })],
@@ -146,21 +149,48 @@ describe('PartitionState', () => {
     expect(failure(() => PartitionState.fromState(good(), OPTIONS))).toBeUndefined();
   });
 
-  it('drops series and folded counts of a segment key no longer configured', () => {
+  it('drops series and folded counts of a model or segment key no longer configured', () => {
     const s = new PartitionState(OPTIONS);
     feed(s, stream(4, 500));
-    const back = PartitionState.fromState(s.toState(), { ...OPTIONS, segmentKeys: ['line'] });
-    expect(back.series().some((x) => x.id.segment.startsWith('shift='))).toBe(false);
-    expect(back.series().filter((x) => x.id.segment.startsWith('line='))).toHaveLength(s.series().filter((x) => x.id.segment.startsWith('line=')).length);
+    const back = PartitionState.fromState(s.toState(), withModels([{ name: '*', segmentKeys: ['line'], maxSeries: 12 }]));
+    expect(back.series().some((x) => x.segment.startsWith('shift='))).toBe(false);
+    expect(back.series().filter((x) => x.segment.startsWith('line='))).toHaveLength(s.series().filter((x) => x.segment.startsWith('line=')).length);
     expect(Object.values(back.counts().folded).every((keys) => !('shift' in keys))).toBe(true);
+    const fraudOnly = PartitionState.fromState(s.toState(), withModels([{ name: 'fraud', segmentKeys: ['line', 'shift'], maxSeries: 12 }]));
+    expect(new Set(fraudOnly.series().map((x) => x.model))).toEqual(new Set(['fraud']));
+    expect(fraudOnly.series().length).toBe(s.series().filter((x) => x.model === 'fraud').length);
+    expect(Object.keys(fraudOnly.counts().folded)).toEqual(Object.keys(s.counts().folded).filter((m) => m === 'fraud'));
+  });
+
+  it('each model gets its own settings; a model without any is counted as unwatched and moves the offset on', () => {
+    const s = new PartitionState(
+      withModels([
+        { name: 'fraud', segmentKeys: ['line'], window: { thresholds: [0.3] } },
+        { name: 'churn', segmentKeys: ['shift'] },
+      ]),
+    );
+    const events = [scored(0.9, { model: 'fraud', segment: { line: '1', shift: 'day' } }), scored(0.9, { model: 'churn', segment: { line: '1', shift: 'day' } }), scored(0.9, { model: 'spam' })];
+    expect(events.map((e, i) => s.apply(e, marginsOf(e), String(i), NOW))).toEqual(['added', 'added', 'unwatched']);
+    expect(s.series().map((x) => `${x.model}/${x.segment}`)).toEqual(['fraud/all', 'fraud/line=1', 'churn/all', 'churn/shift=day']);
+    expect(s.series()[0]?.windows.config.thresholds).toEqual([0.3]);
+    expect(s.series()[2]?.windows.config.thresholds).toEqual([0.1, 0.2]);
+    expect(s.counts()).toMatchObject({ events: 2, unwatched: 1 });
+    expect(s.nextOffset).toBe('3');
+    expect(s.modelSettings('spam')).toBeUndefined();
+    // src/config's model entries are model settings as they are (checked by tsc, not at run time).
+    const fromConfig = (c: ModelConfig): ModelSettings => c;
+    void fromConfig;
+    expect(failure(() => new PartitionState(withModels([{ name: 'a' }, { name: 'a' }])))?.message).toContain('models[1].name');
+    expect(failure(() => new PartitionState(withModels([{ name: 'a', maxSeries: 0 }])))?.message).toContain('models[0].maxSeries');
   });
 
   it('merging partitions gives the counts of one stream exactly', () => {
     const messages = stream(11, 4000);
-    const one = new PartitionState({ ...OPTIONS, maxSeries: 1000 });
+    const settings = [{ name: '*', segmentKeys: ['line', 'shift'], maxSeries: 1000 }];
+    const one = new PartitionState(withModels(settings));
     feed(one, messages);
     // Deal the messages to three partitions by a key, as a producer would.
-    const parts = [0, 1, 2].map((p) => new PartitionState({ ...OPTIONS, partition: p, maxSeries: 1000 }));
+    const parts = [0, 1, 2].map((p) => new PartitionState(withModels(settings, p)));
     const offsets = [0, 0, 0];
     messages.forEach((m, i) => {
       const p = m.kind === 'event' ? (m.event.segment.line === undefined ? 0 : Number(m.event.segment.line) % 3) : i % 3;
@@ -181,14 +211,14 @@ describe('PartitionState', () => {
         const w = s.windows.counters();
         expect(w.added + w.late + w.future).toBe(s.events);
         // Each partition judges lateness against its own watermark, so only the exact counts are compared.
-        return [s.id.model, s.id.version, s.id.segment, s.events, s.labelled, s.wrong];
+        return [s.model, s.version, s.segment, s.events, s.labelled, s.wrong];
       }),
     });
     expect(exact(merged)).toEqual(exact(single));
     expect(merged.series.length).toBeGreaterThan(10);
     // The merged view is a copy: the partitions are unchanged.
     expect(parts.reduce((n, p) => n + p.counts().events, 0)).toBe(merged.counts.events);
-    const allFraud = merged.series.find((s) => s.id.model === 'fraud' && s.id.version === 'v1' && s.id.segment === 'all');
+    const allFraud = merged.series.find((s) => s.model === 'fraud' && s.version === 'v1' && s.segment === 'all');
     expect(allFraud?.windows).not.toBe(parts[0]?.series()[0]?.windows);
   });
 });

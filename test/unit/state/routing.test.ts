@@ -1,13 +1,14 @@
 import { describe, expect, it } from 'vitest';
 import { isHeadroomError } from '../../../src/errors.js';
 import { OTHER_SEGMENT_VALUE } from '../../../src/reference/options.js';
-import { SeriesRouter, splitSegment } from '../../../src/state/routing.js';
+import { routingConfig, SeriesRouter, splitSegment } from '../../../src/state/routing.js';
 import type { RoutingOptions, SeriesId } from '../../../src/state/routing.js';
 import { scored } from './events.js';
 
 /** A router whose series are their own names, so a route reads as a list of segments. */
 function router(options: RoutingOptions): { route: (event: ReturnType<typeof scored>) => string[]; r: SeriesRouter<string> } {
-  const r = new SeriesRouter<string>(options, (id: SeriesId) => `${id.model}/${id.version}/${id.segment}`);
+  const settings = routingConfig(options);
+  const r = new SeriesRouter<string>(() => settings, (id: SeriesId) => `${id.model}/${id.version}/${id.segment}`);
   const out: string[] = [];
   return {
     r,
@@ -30,7 +31,8 @@ describe('series routing', () => {
 
   it('routes the same value to the same series object again', () => {
     const made: SeriesId[] = [];
-    const r = new SeriesRouter<object>({ segmentKeys: ['line'] }, (id) => (made.push(id), {}));
+    const settings = routingConfig({ segmentKeys: ['line'] });
+    const r = new SeriesRouter<object>(() => settings, (id) => (made.push(id), {}));
     const a: object[] = [];
     const b: object[] = [];
     r.route(scored(0.5, { segment: { line: '1' } }), a);
@@ -70,7 +72,8 @@ describe('series routing', () => {
     const { route, r } = router({ segmentKeys: ['line'], maxSeries: 2 });
     route(scored(0.5, { segment: { line: '1' } }));
     route(scored(0.5, { segment: { line: '2' } }));
-    const again = new SeriesRouter<string>({ segmentKeys: ['line'], maxSeries: 2 }, (id) => `new ${id.segment}`);
+    const same = routingConfig({ segmentKeys: ['line'], maxSeries: 2 });
+    const again = new SeriesRouter<string>(() => same, (id) => `new ${id.segment}`);
     for (const s of r.series()) expect(again.restore(s.id, s.series)).toBe(true);
     again.restoreFolded('fraud', 'line', 1);
     const out: string[] = [];
@@ -80,13 +83,27 @@ describe('series routing', () => {
     expect(out.slice(0, 2)).toEqual(['fraud/v1/all', 'fraud/v1/line=other']);
     expect(again.folded()).toEqual({ fraud: { line: 2 } });
     // A key no longer configured is not restored.
-    expect(new SeriesRouter<string>({}, () => '').restore({ model: 'm', version: 'v', segment: 'line=1' }, 'x')).toBe(false);
+    const none = routingConfig({});
+    expect(new SeriesRouter<string>(() => none, () => '').restore({ model: 'm', version: 'v', segment: 'line=1' }, 'x')).toBe(false);
+  });
+
+  it('a model without settings gets no series and leaves nothing behind; each model has its own keys', () => {
+    const fraud = routingConfig({ segmentKeys: ['line'] });
+    const churn = routingConfig({ segmentKeys: ['plan'] });
+    const r = new SeriesRouter<string>((m) => (m === 'fraud' ? fraud : m === 'churn' ? churn : undefined), (id) => id.segment);
+    const out: string[] = [];
+    expect(r.route(scored(0.5, { model: 'spam', segment: { line: '1' } }), out)).toBe(0);
+    expect(r.series()).toEqual([]);
+    expect(r.seriesCount('spam')).toBe(0);
+    const seg = { line: '1', plan: 'gold' };
+    expect(out.slice(0, r.route(scored(0.5, { model: 'fraud', segment: seg }), out))).toEqual(['all', 'line=1']);
+    expect(out.slice(0, r.route(scored(0.5, { model: 'churn', segment: seg }), out))).toEqual(['all', 'plan=gold']);
   });
 
   it('refuses bad options naming the field', () => {
     const codeAndField = (options: RoutingOptions): unknown[] => {
       try {
-        new SeriesRouter(options, () => 0);
+        routingConfig(options);
       } catch (e) {
         return isHeadroomError(e) ? [e.code, e.context.field] : ['other'];
       }
