@@ -26,7 +26,7 @@
 import type { ScoredEvent } from '../events/index.js';
 import { ALL_SEGMENT } from '../reference/format.js';
 import { OTHER_SEGMENT_VALUE } from '../reference/options.js';
-import { badArgument, badArgument as fail } from './fail.js';
+import { badArgument } from './fail.js';
 
 export const DEFAULT_MAX_SERIES = 200;
 export { ALL_SEGMENT, OTHER_SEGMENT_VALUE };
@@ -52,17 +52,17 @@ export interface RoutingConfig {
 
 /** Defaults filled in and checked; HR_ERR_STATE_ARGUMENT names the field, under `path`. */
 export function routingConfig(options: RoutingOptions = {}, path = ''): RoutingConfig {
-  const badArgument = (field: string, detail: string, value?: unknown) => fail(`${path}${field}`, detail, value);
+  const bad = (field: string, detail: string, value?: unknown): Error => badArgument(`${path}${field}`, detail, value);
   const segmentKeys = options.segmentKeys ?? [];
-  if (!Array.isArray(segmentKeys)) throw badArgument('segmentKeys', 'must be an array of names', segmentKeys);
+  if (!Array.isArray(segmentKeys)) throw bad('segmentKeys', 'must be an array of names', segmentKeys);
   segmentKeys.forEach((key, i) => {
     if (typeof key !== 'string' || key === '' || key.includes('=') || key === '__proto__') {
-      throw badArgument(`segmentKeys[${i}]`, 'must be a non-empty name without "=" (segments are named key=value)', key);
+      throw bad(`segmentKeys[${i}]`, 'must be a non-empty name without "=" (segments are named key=value)', key);
     }
-    if (segmentKeys.indexOf(key) !== i) throw badArgument('segmentKeys', `names ${JSON.stringify(key)} twice`, segmentKeys);
+    if (segmentKeys.indexOf(key) !== i) throw bad('segmentKeys', `names ${JSON.stringify(key)} twice`, segmentKeys);
   });
   const maxSeries = options.maxSeries ?? DEFAULT_MAX_SERIES;
-  if (!Number.isSafeInteger(maxSeries) || maxSeries < 1) throw badArgument('maxSeries', 'must be a whole number >= 1', maxSeries);
+  if (!Number.isSafeInteger(maxSeries) || maxSeries < 1) throw bad('maxSeries', 'must be a whole number >= 1', maxSeries);
   return Object.freeze({ segmentKeys: Object.freeze([...segmentKeys]), maxSeries });
 }
 
