@@ -195,15 +195,16 @@ export class PartitionState {
     return this.next === null ? null : this.next.toString();
   }
 
-  /** Newest event time any series accepted; null before the first. */
+  /** Newest event time accepted by an `all` series (segment series never run ahead of it); null before the first. */
   get watermarkMs(): number | null {
     return this.watermark;
   }
 
   /**
    * One decoded event with its margins, at `offset`. `nowMs` is the caller's clock, used only to refuse
-   * events from the future. Returns what the event's `all` series did with it, or 'duplicate' (and
-   * changes nothing) when the offset is below nextOffset.
+   * events from the future. Returns what the event's `all` series did with it; 'unwatched' when its
+   * model has no settings (counted, offset moved on); 'duplicate' (nothing changes) when the offset is
+   * below nextOffset.
    */
   apply(event: ScoredEvent, margins: Margins, offset: string, nowMs: number): ApplyOutcome {
     const at = checkOffset(offset);
