@@ -28,6 +28,9 @@ export const REJECTION_REASONS = {
   too_many_segment_keys: 'segment has more keys than the configured limit',
   bad_segment_key: 'a segment key contains "=" (series are named key=value) or is __proto__',
   bad_label: 'label is not a string, number or boolean, or does not fit the score (see src/margin)',
+  csv_field_count: 'a CSV row has more or fewer fields than the header',
+  csv_bad_quote: 'a CSV field has a quote inside an unquoted field or text after its closing quote',
+  csv_unclosed_quote: 'a quoted CSV field is still open at the end of the file',
 } as const satisfies Record<string, string>;
 
 export type RejectionReason = keyof typeof REJECTION_REASONS;

@@ -1,18 +1,18 @@
 /**
- * Why a file line was turned away, and a tally of them. The decoder's reasons (src/events/reasons.ts)
- * cover every message; a CSV row can also fail before it becomes a message at all, for which this
- * module adds its own reasons. They belong with the decoder's in the end (one label set for
- * `headroom_events_rejected_total{reason}`), but that file is not this module's to change.
+ * Why a file line was turned away, and a tally of them. A CSV row can fail before it becomes a message
+ * at all; those reasons live with the decoder's in src/events/reasons.ts, so one label set serves
+ * `headroom_events_rejected_total{reason}`, and this module names the subset it produces.
  */
+import { REJECTION_REASONS } from '../events/index.js';
 import type { Rejection, RejectionReason } from '../events/index.js';
 
-export const SOURCE_REJECTION_REASONS = {
-  csv_field_count: 'a CSV row has more or fewer fields than the header',
-  csv_bad_quote: 'a CSV field has a quote inside an unquoted field or text after its closing quote',
-  csv_unclosed_quote: 'a quoted CSV field is still open at the end of the file',
-} as const satisfies Record<string, string>;
+export type SourceRejectionReason = Extract<RejectionReason, `csv_${string}`>;
 
-export type SourceRejectionReason = keyof typeof SOURCE_REJECTION_REASONS;
+export const SOURCE_REJECTION_REASONS: Readonly<Record<SourceRejectionReason, string>> = {
+  csv_field_count: REJECTION_REASONS.csv_field_count,
+  csv_bad_quote: REJECTION_REASONS.csv_bad_quote,
+  csv_unclosed_quote: REJECTION_REASONS.csv_unclosed_quote,
+};
 
 export interface SourceRejection {
   readonly ok: false;
