@@ -6,7 +6,7 @@
  * only the paths written go to stdout, one a line, so a script can pick them up.
  */
 import { randomBytes } from 'node:crypto';
-import { mkdir, open, rename, rm, stat } from 'node:fs/promises';
+import { mkdir, stat } from 'node:fs/promises';
 import { basename, dirname, join, sep } from 'node:path';
 import type { Command } from 'commander';
 import { HeadroomError } from '../errors.js';
@@ -22,6 +22,7 @@ import type { ReferenceOptions } from '../reference/index.js';
 import { DEFAULT_COMPRESSION, MAX_COMPRESSION, MAX_THRESHOLDS, MIN_COMPRESSION } from '../sketch/index.js';
 import { createProgress, formatBytes, formatRejectionSummary, listInputFiles, readScoredEvents, RejectionTally } from '../sources/index.js';
 import type { InputFile, ProgressOutput } from '../sources/index.js';
+import { writeTextAtomically } from '../files/atomic-write.js';
 
 export interface ReferenceCommandOptions {
   readonly inputs: readonly string[];
@@ -149,16 +150,8 @@ export async function writeFileAtomically(path: string, text: string): Promise<v
   const temp = join(dirname(path), `.${basename(path)}.${process.pid}.${randomBytes(4).toString('hex')}.tmp`);
   try {
     await mkdir(dirname(path), { recursive: true });
-    const handle = await open(temp, 'wx');
-    try {
-      await handle.writeFile(text, 'utf8');
-      await handle.sync();
-    } finally {
-      await handle.close();
-    }
-    await rename(temp, path);
+    await writeTextAtomically(path, text, temp);
   } catch (error) {
-    await rm(temp, { force: true });
     throw new HeadroomError('HR_ERR_OUTPUT_UNWRITABLE', `${path}: ${error instanceof Error ? error.message : String(error)}`, {
       cause: error,
       context: { path },

@@ -1,5 +1,6 @@
 /** One thing wrong with the configuration, and the single error that reports all of them. */
 import { HeadroomError } from '../errors.js';
+import { fieldPath as joinFieldPath } from '../field-path.js';
 
 export interface Problem {
   /** Path of the field in the file, e.g. `models[0].thresholds[1]`; `(top level)` for the whole file. */
@@ -12,16 +13,8 @@ export interface Problem {
   readonly line?: number;
 }
 
-const PLAIN_KEY = /^[A-Za-z_$][\w$]*$/;
-
 export function fieldPath(path: readonly PropertyKey[]): string {
-  let out = '';
-  for (const key of path) {
-    if (typeof key === 'number') out += `[${key}]`;
-    else if (typeof key === 'string' && PLAIN_KEY.test(key)) out += out === '' ? key : `.${key}`;
-    else out += `[${JSON.stringify(String(key))}]`;
-  }
-  return out === '' ? '(top level)' : out;
+  return joinFieldPath(path) || '(top level)';
 }
 
 export function formatProblem(source: string, p: Problem): string {

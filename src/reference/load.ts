@@ -10,6 +10,7 @@ import { MarginSummary } from '../sketch/index.js';
 import type { MarginDistribution } from '../sketch/index.js';
 import { ALL_SEGMENT, CALIBRATION_BINS, DECILE_LEVELS, REFERENCE_FORMAT, REFERENCE_FORMAT_FAMILY, referenceSchema } from './format.js';
 import type { CalibrationBin, LowMarginEntry, ReferenceFile, SegmentRecord } from './format.js';
+import { fieldPath } from '../field-path.js';
 
 export interface ReferenceSegment {
   /** `all`, or `key=value`. */
@@ -59,17 +60,7 @@ class Invalid extends Error {
   }
 }
 
-const PLAIN_KEY = /^[A-Za-z_$][\w$]*$/;
 
-export function fieldPath(path: readonly PropertyKey[]): string {
-  let out = '';
-  for (const key of path) {
-    if (typeof key === 'number') out += `[${key}]`;
-    else if (typeof key === 'string' && PLAIN_KEY.test(key)) out += out === '' ? key : `.${key}`;
-    else out += `[${JSON.stringify(String(key))}]`;
-  }
-  return out;
-}
 
 function describeInput(value: unknown): string {
   if (value === undefined) return 'nothing (the field is absent)';

@@ -14,13 +14,14 @@
  * On a case-insensitive file system two topics that differ only in case would share a file; Kafka
  * users rarely do that, but keep such deployments on separate directories.
  */
-import { mkdir, open, readdir, readFile, rename, unlink } from 'node:fs/promises';
+import { mkdir, open, readdir, readFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { HeadroomError } from '../errors.js';
 import { checkGroup, checkKey, closedError, decodeCheckpoint, encodeCheckpoint, sortKeys } from './checkpoint-store.js';
 import type { CheckpointKey, CheckpointStore } from './checkpoint-store.js';
 import { badArgument } from './fail.js';
 import type { PartitionStateJson } from './partition-state.js';
+import { writeTextAtomically } from '../files/atomic-write.js';
 
 export interface FileCheckpointStoreOptions {
   /** The directory of checkpoints; made on the first save. */
@@ -111,16 +112,8 @@ export class FileCheckpointStore implements CheckpointStore {
       this.sequence += 1;
       const temp = `${path}.tmp-${process.pid}-${this.sequence}`;
       try {
-        const handle = await open(temp, 'wx');
-        try {
-          await handle.writeFile(text, 'utf8');
-          await handle.sync();
-        } finally {
-          await handle.close();
-        }
-        await rename(temp, path);
+        await writeTextAtomically(path, text, temp);
       } catch (error) {
-        await unlink(temp).catch(() => undefined);
         throw ioError('write', path, error);
       }
       try {

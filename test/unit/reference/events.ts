@@ -1,8 +1,6 @@
 /** Scored events for the reference and CLI tests, made through the real decoder so they are valid ones. */
 import { validateScoredEvent } from '../../../src/events/index.js';
 import type { ScoredEvent } from '../../../src/events/index.js';
-import { isHeadroomError } from '../../../src/errors.js';
-import type { HeadroomError } from '../../../src/errors.js';
 
 export const MODEL = 'parcel-damage';
 export const VERSION = '2026.11.3';
@@ -59,22 +57,4 @@ export function parcelEvents(n: number, seed: number, shift = 0): ScoredEvent[] 
   return out;
 }
 
-export function caught(f: () => unknown): HeadroomError {
-  try {
-    f();
-  } catch (error) {
-    if (isHeadroomError(error)) return error;
-    throw error;
-  }
-  throw new Error('expected a HeadroomError, nothing was thrown');
-}
-
-export async function caughtAsync(f: () => Promise<unknown>): Promise<HeadroomError> {
-  try {
-    await f();
-  } catch (error) {
-    if (isHeadroomError(error)) return error;
-    throw error;
-  }
-  throw new Error('expected a HeadroomError, nothing was thrown');
-}
+export { caught, caughtAsync } from '../caught.js';
