@@ -7,6 +7,7 @@ import { Command, CommanderError } from 'commander';
 import { exitCodeOf, isHeadroomError } from '../errors.js';
 import { registerReferenceCommand } from './reference-command.js';
 import { registerPlannedCommands } from './planned-commands.js';
+import { registerWatchCommand } from './watch-command.js';
 
 export function buildProgram(): Command {
   const program = new Command('headroom')
@@ -16,6 +17,7 @@ export function buildProgram(): Command {
     .enablePositionalOptions()
     .showHelpAfterError()
     .exitOverride();
+  registerWatchCommand(program);
   registerReferenceCommand(program);
   registerPlannedCommands(program);
   return program;

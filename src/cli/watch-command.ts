@@ -1,0 +1,110 @@
+/**
+ * `headroom watch --config FILE`: the service. Reads the configuration (environment overrides applied),
+ * starts the watcher and runs until SIGTERM or SIGINT, then shuts down in order within a bounded time.
+ */
+import type { Command } from 'commander';
+import { pino } from 'pino';
+import { Registry } from 'prom-client';
+import { describeConfig, ENV_VARIABLES, loadConfig, readTlsMaterial } from '../config/index.js';
+import type { Env } from '../config/index.js';
+import { HeadroomError } from '../errors.js';
+import { FileCheckpointStore } from '../state/index.js';
+import { createWatcher } from '../stream/index.js';
+
+/** A shutdown that takes longer than this exits 1 instead of hanging a deploy. */
+export const SHUTDOWN_TIMEOUT_MS = 15_000;
+
+const HELP = `
+Environment (each overrides the file):
+  ${ENV_VARIABLES.brokers}        brokers, comma-separated (kafka.brokers)
+  ${ENV_VARIABLES.saslUsername}  SASL user (kafka.sasl.username)
+  ${ENV_VARIABLES.saslPassword}  SASL password; only from here, never in the file
+  ${ENV_VARIABLES.httpPort}            port of /metrics, /healthz, /readyz and /api (http.port)
+  LOG_LEVEL                     pino level: fatal, error, warn, info (default), debug, trace
+
+State is kept per Kafka partition under checkpoint.dir and written with its next offset; on start the
+consumer resumes from there, so counts are exact across restarts. SIGTERM or SIGINT: stop fetching,
+checkpoint, commit, leave the group, exit 0 (1 when shutdown fails or takes over ${SHUTDOWN_TIMEOUT_MS / 1000} s).
+
+Example:
+  $ HEADROOM_KAFKA_BROKERS=kafka-1:9092,kafka-2:9092 headroom watch --config examples/watch.yaml
+`;
+
+export interface WatchIo {
+  readonly env: Env;
+  /** Resolves when the service should stop (a signal); passed in so tests need no real signals. */
+  readonly stopSignal: () => Promise<string>;
+}
+
+export async function runWatch(configPath: string, io: WatchIo): Promise<void> {
+  const logger = pino({ level: io.env.LOG_LEVEL ?? 'info', base: { service: 'headroom' } });
+  const { config, warnings } = await loadConfig(configPath, io.env);
+  for (const warning of warnings) logger.warn(warning);
+  logger.info({ config: describeConfig(config) }, 'configuration');
+  const tls = await readTlsMaterial(config);
+  const store = new FileCheckpointStore({ dir: config.checkpoint.dir });
+  let fatal: HeadroomError | undefined;
+  let wakeOnFatal: (() => void) | undefined;
+  const fatalStop = new Promise<string>((resolve) => (wakeOnFatal = () => resolve('consumer crash')));
+  const watcher = createWatcher({
+    config,
+    tls,
+    store,
+    logger,
+    registry: new Registry(),
+    nowMs: () => Date.now(),
+    onFatal: (error) => {
+      fatal = error;
+      wakeOnFatal?.();
+    },
+  });
+  await watcher.start();
+  const why = await Promise.race([io.stopSignal(), fatalStop]);
+  logger.info({ why }, 'shutting down');
+  let timer: NodeJS.Timeout | undefined;
+  const timeout = new Promise<never>((_, reject) => {
+    timer = setTimeout(
+      () => reject(new HeadroomError('HR_ERR_WATCH_SHUTDOWN', `not finished after ${SHUTDOWN_TIMEOUT_MS / 1000} s; exiting anyway`)),
+      SHUTDOWN_TIMEOUT_MS,
+    );
+  });
+  try {
+    await Promise.race([watcher.close(), timeout]);
+  } finally {
+    clearTimeout(timer);
+  }
+  if (fatal !== undefined) throw fatal;
+}
+
+function signals(): Promise<string> {
+  return new Promise((resolve) => {
+    const on = (signal: NodeJS.Signals): void => {
+      process.off('SIGTERM', on);
+      process.off('SIGINT', on);
+      resolve(signal);
+    };
+    process.once('SIGTERM', on);
+    process.once('SIGINT', on);
+  });
+}
+
+export function registerWatchCommand(program: Command): void {
+  program
+    .command('watch')
+    .summary('the service: consume scored events from Kafka, keep margin windows, serve /metrics and the API')
+    .description(
+      'Consume scored events from Kafka with a consumer group, keep the live margin distribution of every model, ' +
+        'version and segment per partition (checkpointed with its offset), compare it with the reference files, ' +
+        'and serve Prometheus metrics, health probes and a read-only JSON API.',
+    )
+    .requiredOption('-c, --config <file>', 'YAML configuration (see examples/watch.yaml); paths in it are relative to the file')
+    .addHelpText('after', HELP)
+    .action(async (raw: { config: string }) => {
+      try {
+        await runWatch(raw.config, { env: process.env, stopSignal: signals });
+      } finally {
+        // Anything a failed step left open (a socket, a timer) must not keep the process past shutdown.
+        setTimeout(() => process.exit(process.exitCode ?? 1), 2_000).unref();
+      }
+    });
+}

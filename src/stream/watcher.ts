@@ -1,0 +1,390 @@
+/**
+ * `headroom watch`'s consumer loop: a kafkajs consumer group feeding one PartitionState per owned
+ * partition, checkpointed with its offset, and an HTTP server over the merged states.
+ *
+ * Exactly-once, in three moves (DESIGN "Series, windows, state"; src/state/partition-state.ts):
+ * - Before run(), every checkpoint of the group is loaded into memory and checked. kafkajs only honours
+ *   a seek made synchronously inside the GROUP_JOIN listener (applied at the next fetch), so the
+ *   listener must not wait on the disk: it restores each assigned partition from memory and seeks to
+ *   the stored next offset. A partition without a checkpoint starts empty at the earliest offset.
+ * - Each message of a batch is decoded and applied (or rejected) in offset order; an offset below the
+ *   state's next offset is skipped (a fetch made before the seek took effect).
+ * - Every checkpoint interval (and at shutdown) each owned state is saved, THEN its next offset is
+ *   committed to Kafka, so Kafka tools see the lag and a crash between the two only replays into the
+ *   state that was saved.
+ */
+import { createServer } from 'node:http';
+import type { Server } from 'node:http';
+import type { AddressInfo } from 'node:net';
+import { Kafka } from 'kafkajs';
+import type { Admin, Consumer, ConsumerGroupJoinEvent, EachBatchPayload, KafkaConfig as KafkajsConfig } from 'kafkajs';
+import type { Logger } from 'pino';
+import type { Registry } from 'prom-client';
+import { kafkaClientOptions } from '../config/index.js';
+import type { HeadroomConfig, TlsMaterial } from '../config/index.js';
+import { HeadroomError, isHeadroomError } from '../errors.js';
+import { decodeScoredEvent } from '../events/index.js';
+import { measureMargins } from '../margin/index.js';
+import { createApp, createMetrics } from '../serve/index.js';
+import type { PartitionInfo, Readiness, WatchedSeriesSource } from '../serve/index.js';
+import { PartitionState } from '../state/index.js';
+import type { CheckpointStore, PartitionStateJson } from '../state/index.js';
+import { loadReferenceFile } from '../sources/index.js';
+import { kafkaLogCreator } from './kafka-log.js';
+import { createSeriesSource, ReferenceIndex } from './source.js';
+
+export interface WatcherDependencies {
+  readonly config: HeadroomConfig;
+  /** PEM contents for kafka.tls (readTlsMaterial); empty without TLS. */
+  readonly tls?: TlsMaterial;
+  /** Makes the kafkajs client; default `new Kafka(options)`. */
+  readonly createKafka?: (options: KafkajsConfig) => Kafka;
+  readonly store: CheckpointStore;
+  readonly logger: Logger;
+  /** A registry of the caller's own; the watcher's metric families are added to it. */
+  readonly registry: Registry;
+  /** Wall clock (ms): event "future" checks, checkpoint times. */
+  readonly nowMs: () => number;
+  /** How often the high watermarks are fetched for the lag; default the checkpoint interval (at least 1 s). */
+  readonly lagIntervalMs?: number;
+  /** Told once when the consumer stops for good (a crash kafkajs will not restart from). */
+  readonly onFatal?: (error: HeadroomError) => void;
+}
+
+export interface Watcher {
+  /** Loads references and checkpoints, listens on config.http, joins the group. Rejects (after cleaning up) if any step fails. */
+  start(): Promise<void>;
+  /** Stop fetching, checkpoint, commit, leave the group, close HTTP and the store. Idempotent; every step runs. */
+  close(): Promise<void>;
+  readonly source: WatchedSeriesSource;
+  /** `http://host:port` once listening; undefined before. */
+  url(): string | undefined;
+}
+
+const EMPTY = new Uint8Array(0);
+/** kafkajs sends a heartbeat only when its interval has passed, so asking this often costs little. */
+const HEARTBEAT_EVERY = 500;
+
+function partitionKey(topic: string, partition: number): string {
+  return `${topic}\u0000${partition}`;
+}
+
+function startError(step: string, cause: unknown): HeadroomError {
+  if (isHeadroomError(cause)) return cause;
+  return new HeadroomError('HR_ERR_WATCH_START', `${step}: ${cause instanceof Error ? cause.message : String(cause)}`, { cause, context: { step } });
+}
+
+export function createWatcher(deps: WatcherDependencies): Watcher {
+  const { config, store, nowMs } = deps;
+  const group = config.kafka.groupId;
+  const log = deps.logger.child({ component: 'stream' });
+  const httpLog = deps.logger.child({ component: 'http' });
+  const topics = new Set(config.kafka.topics);
+  const stateOptions = (topic: string, partition: number) => ({ topic, partition, models: config.models });
+
+  const references = new ReferenceIndex();
+  /** Last saved (or loaded) state of each partition of the group: what an assignment restores from. */
+  const saved = new Map<string, PartitionStateJson>();
+  const owned = new Map<string, PartitionState>();
+  const lastCheckpointMs = new Map<string, number>();
+  const lows = new Map<string, string>();
+  const highs = new Map<string, string>();
+
+  let kafka: Kafka | undefined;
+  let admin: Admin | undefined;
+  let consumer: Consumer | undefined;
+  let server: Server | undefined;
+  let address: string | undefined;
+  let joined = false;
+  let stopping = false;
+  let fatal: HeadroomError | undefined;
+  let restoreFailure: HeadroomError | undefined;
+  let batchInFlight: Promise<void> = Promise.resolve();
+  let checkpointChain: Promise<void> = Promise.resolve();
+  const timers: NodeJS.Timeout[] = [];
+  let closing: Promise<void> | undefined;
+
+  const readiness = (): Readiness => {
+    const reasons: string[] = [];
+    if (stopping) reasons.push('shutting down');
+    if (fatal !== undefined) reasons.push(fatal.message);
+    if (restoreFailure !== undefined) reasons.push(restoreFailure.message);
+    if (!joined) reasons.push(`not yet a member of consumer group ${group}`);
+    return { ready: reasons.length === 0, reasons };
+  };
+
+  const partitions = (): PartitionInfo[] =>
+    [...owned.values()]
+      .map((state) => {
+        const key = partitionKey(state.topic, state.partition);
+        const high = highs.get(key);
+        const position = state.nextOffset ?? lows.get(key);
+        const lag = high === undefined || position === undefined ? null : Math.max(0, Number(BigInt(high) - BigInt(position)));
+        return { topic: state.topic, partition: state.partition, lagMessages: lag, lastCheckpointMs: lastCheckpointMs.get(key) ?? null };
+      })
+      .sort((a, b) => (a.topic < b.topic ? -1 : a.topic > b.topic ? 1 : a.partition - b.partition));
+
+  const source = createSeriesSource({ states: () => [...owned.values()], readiness, partitions }, references);
+  createMetrics({ registry: deps.registry, source, views: config.windows, nowMs });
+
+  async function loadReferences(): Promise<void> {
+    for (const model of config.models) {
+      if (model.reference === null) {
+        log.info({ model: model.name }, 'no reference configured: live metrics only, comparisons show "no reference"');
+        continue;
+      }
+      const reference = await loadReferenceFile(model.reference);
+      if (model.name !== '*' && reference.model !== model.name) {
+        log.warn({ model: model.name, file: model.reference, fileModel: reference.model }, 'reference file is of another model; it applies to the model it names');
+      }
+      references.add(reference);
+      log.info({ model: reference.model, version: reference.version, n: reference.n, file: model.reference }, 'reference loaded');
+    }
+  }
+
+  async function loadCheckpoints(): Promise<void> {
+    for (const { topic, partition } of await store.list(group)) {
+      if (!topics.has(topic)) continue;
+      const json = await store.load(group, topic, partition);
+      if (json === undefined) continue;
+      // Restored once here so a bad checkpoint stops the start, not the GROUP_JOIN listener later.
+      PartitionState.fromState(json, stateOptions(topic, partition));
+      saved.set(partitionKey(topic, partition), json);
+    }
+    log.info({ group, partitions: saved.size }, 'checkpoints loaded');
+  }
+
+  async function listen(): Promise<void> {
+    const app = createApp({ registry: deps.registry, source, views: config.windows, nowMs, onError: (error) => httpLog.error({ err: error }, 'request failed') });
+    const s = createServer(app);
+    server = s;
+    await new Promise<void>((resolve, reject) => {
+      s.once('error', reject);
+      s.listen(config.http.port, config.http.host, () => {
+        s.off('error', reject);
+        resolve();
+      });
+    });
+    const { port } = s.address() as AddressInfo;
+    const host = config.http.host.includes(':') ? `[${config.http.host}]` : config.http.host;
+    address = `http://${host}:${port}`;
+    httpLog.info({ url: address }, `listening on ${address}`);
+  }
+
+  async function refreshOffsets(which: 'low' | 'high'): Promise<void> {
+    if (admin === undefined) return;
+    for (const topic of topics) {
+      for (const p of await admin.fetchTopicOffsets(topic)) {
+        const key = partitionKey(topic, p.partition);
+        if (which === 'low') lows.set(key, p.low);
+        highs.set(key, p.high);
+      }
+    }
+  }
+
+  /** Synchronous on purpose: kafkajs applies only seeks made inside this listener, at the next fetch. */
+  function onGroupJoin(event: ConsumerGroupJoinEvent): void {
+    const c = consumer;
+    if (c === undefined) return;
+    const assignment = event.payload.memberAssignment;
+    const assigned = new Set<string>();
+    for (const [topic, list] of Object.entries(assignment)) {
+      for (const partition of list) {
+        const key = partitionKey(topic, partition);
+        assigned.add(key);
+        let state = owned.get(key);
+        if (state === undefined) {
+          const json = saved.get(key);
+          try {
+            state = json === undefined ? new PartitionState(stateOptions(topic, partition)) : PartitionState.fromState(json, stateOptions(topic, partition));
+          } catch (error) {
+            restoreFailure = new HeadroomError('HR_ERR_WATCH_RESTORE', `${topic}[${partition}]: ${error instanceof Error ? error.message : String(error)}`, {
+              cause: error,
+              context: { topic, partition },
+            });
+            log.error({ err: restoreFailure, topic, partition }, 'partition not restored; it is not consumed');
+            continue;
+          }
+          owned.set(key, state);
+        }
+        const offset = state.nextOffset ?? lows.get(key);
+        if (offset !== undefined) c.seek({ topic, partition, offset });
+        log.info({ topic, partition, offset: offset ?? 'earliest', restored: saved.has(key) }, 'partition assigned');
+      }
+    }
+    for (const key of [...owned.keys()]) {
+      if (!assigned.has(key)) {
+        const state = owned.get(key);
+        owned.delete(key);
+        log.info({ topic: state?.topic, partition: state?.partition }, 'partition revoked; progress after its last checkpoint is read again by its next owner');
+      }
+    }
+    joined = true;
+  }
+
+  async function eachBatch(payload: EachBatchPayload): Promise<void> {
+    let done!: () => void;
+    batchInFlight = new Promise<void>((resolve) => (done = resolve));
+    try {
+      await consumeBatch(payload);
+    } finally {
+      done();
+    }
+  }
+
+  async function consumeBatch({ batch, resolveOffset, heartbeat, isRunning, isStale }: EachBatchPayload): Promise<void> {
+    const state = owned.get(partitionKey(batch.topic, batch.partition));
+    if (state === undefined) return; // not restored (see restoreFailure) or no longer ours
+    const now = nowMs();
+    const limits = config.decode;
+    let next = state.nextOffset === null ? -1n : BigInt(state.nextOffset);
+    let n = 0;
+    for (const message of batch.messages) {
+      if (stopping || !isRunning() || isStale()) break;
+      const offset = message.offset;
+      if (BigInt(offset) >= next) {
+        const decoded = decodeScoredEvent(message.value ?? EMPTY, limits, Number(message.timestamp));
+        if (!decoded.ok) {
+          state.reject(decoded.reason, offset);
+          log.debug({ topic: batch.topic, partition: batch.partition, offset, reason: decoded.reason, field: decoded.field }, 'message rejected');
+        } else {
+          const margins = measureMargins(decoded.event.score, decoded.event.label);
+          if (margins.ok) state.apply(decoded.event, margins, offset, now);
+          else state.reject(margins.reason, offset);
+        }
+        next = BigInt(offset) + 1n;
+      }
+      resolveOffset(offset);
+      n += 1;
+      if (n % HEARTBEAT_EVERY === 0) await heartbeat();
+    }
+    await heartbeat();
+  }
+
+  /** Saves every owned state that moved, then commits the saved offsets. Runs one at a time. */
+  function checkpoint(): Promise<void> {
+    checkpointChain = checkpointChain.then(checkpointOnce, checkpointOnce);
+    return checkpointChain;
+  }
+
+  async function checkpointOnce(): Promise<void> {
+    const commits: { topic: string; partition: number; offset: string }[] = [];
+    const failures: unknown[] = [];
+    await Promise.all(
+      [...owned.values()].map(async (state) => {
+        const key = partitionKey(state.topic, state.partition);
+        const next = state.nextOffset;
+        if (next === null) return;
+        if (saved.get(key)?.nextOffset === next) {
+          lastCheckpointMs.set(key, nowMs()); // nothing new: the checkpoint on disk is current
+          return;
+        }
+        // toState() is synchronous, so the snapshot and its offset are of one moment between messages.
+        const json = state.toState() as PartitionStateJson;
+        try {
+          await store.save(group, state.topic, state.partition, json);
+        } catch (error) {
+          failures.push(error);
+          log.error({ err: error, topic: state.topic, partition: state.partition }, 'checkpoint failed; the offset is not committed');
+          return;
+        }
+        saved.set(key, json);
+        lastCheckpointMs.set(key, nowMs());
+        commits.push({ topic: state.topic, partition: state.partition, offset: next });
+      }),
+    );
+    if (commits.length > 0 && consumer !== undefined) {
+      try {
+        await consumer.commitOffsets(commits);
+      } catch (error) {
+        // The checkpoint is what restores; a failed commit only leaves Kafka's view of the lag behind.
+        log.warn({ err: error, partitions: commits.length }, 'offset commit failed after checkpoint');
+      }
+    }
+    if (failures.length > 0) throw failures[0];
+  }
+
+  function every(ms: number, task: () => Promise<void>, what: string): void {
+    const timer = setInterval(() => {
+      task().catch((error: unknown) => log.warn({ err: error }, `${what} failed`));
+    }, ms);
+    timer.unref();
+    timers.push(timer);
+  }
+
+  async function start(): Promise<void> {
+    if (closing !== undefined) throw new HeadroomError('HR_ERR_WATCH_START', 'close() was called; make a new watcher');
+    try {
+      await loadReferences().catch((e: unknown) => Promise.reject(startError('loading references', e)));
+      await loadCheckpoints().catch((e: unknown) => Promise.reject(startError('loading checkpoints', e)));
+      await listen().catch((e: unknown) => Promise.reject(startError(`listening on ${config.http.host}:${config.http.port}`, e)));
+      const options: KafkajsConfig = { ...kafkaClientOptions(config, deps.tls ?? {}), logCreator: kafkaLogCreator(deps.logger.child({ component: 'kafkajs' })) };
+      kafka = (deps.createKafka ?? ((o: KafkajsConfig) => new Kafka(o)))(options);
+      const a = kafka.admin();
+      admin = a;
+      await a.connect().catch((e: unknown) => Promise.reject(startError(`connecting to ${config.kafka.brokers.join(',')}`, e)));
+      await refreshOffsets('low').catch((e: unknown) => Promise.reject(startError(`reading offsets of ${[...topics].join(', ')}`, e)));
+      const c = kafka.consumer({ groupId: group });
+      consumer = c;
+      c.on(c.events.GROUP_JOIN, onGroupJoin);
+      c.on(c.events.CRASH, (event) => {
+        log.error({ err: event.payload.error, restart: event.payload.restart }, 'consumer crashed');
+        if (!event.payload.restart && !stopping) {
+          fatal = new HeadroomError('HR_ERR_WATCH_CONSUMER_CRASHED', event.payload.error.message, { cause: event.payload.error });
+          deps.onFatal?.(fatal);
+        }
+      });
+      await c.connect().catch((e: unknown) => Promise.reject(startError(`connecting the consumer of group ${group}`, e)));
+      await c.subscribe({ topics: [...topics], fromBeginning: true });
+      await c.run({ autoCommit: false, eachBatchAutoResolve: false, eachBatch });
+      every(Math.max(config.checkpoint.intervalMs, 100), checkpoint, 'checkpoint');
+      every(deps.lagIntervalMs ?? Math.max(config.checkpoint.intervalMs, 1_000), () => refreshOffsets('high'), 'lag refresh');
+      log.info({ group, topics: [...topics] }, 'consumer running');
+    } catch (error) {
+      await close().catch(() => undefined);
+      throw startError('starting', error);
+    }
+  }
+
+  function close(): Promise<void> {
+    closing ??= (async () => {
+      stopping = true;
+      const errors: unknown[] = [];
+      const step = async (name: string, work: () => Promise<unknown> | unknown): Promise<void> => {
+        try {
+          await work();
+        } catch (error) {
+          errors.push(error);
+          log.error({ err: error, step: name }, 'shutdown step failed');
+        }
+      };
+      for (const timer of timers) clearInterval(timer);
+      const c = consumer;
+      await step('stop fetching', () => {
+        if (c !== undefined && joined) c.pause([...topics].map((topic) => ({ topic })));
+        return batchInFlight;
+      });
+      await step('checkpoint and commit', () => (joined ? checkpoint() : undefined));
+      await step('leave the group', () => c?.disconnect());
+      await step('disconnect admin', () => admin?.disconnect());
+      await step('close HTTP', () => closeServer());
+      await step('close checkpoint store', () => store.close());
+      log.info({ errors: errors.length }, 'watcher closed');
+      if (errors.length > 0) {
+        throw new HeadroomError('HR_ERR_WATCH_SHUTDOWN', `${errors.length} step(s) failed, first: ${errors[0] instanceof Error ? errors[0].message : String(errors[0])}`, { cause: errors[0] });
+      }
+    })();
+    return closing;
+  }
+
+  function closeServer(): Promise<void> {
+    const s = server;
+    if (s === undefined || !s.listening) return Promise.resolve();
+    return new Promise<void>((resolve, reject) => {
+      s.close((error) => (error === undefined ? resolve() : reject(error)));
+      s.closeAllConnections();
+    });
+  }
+
+  return { start, close, source, url: () => address };
+}
