@@ -4,7 +4,7 @@
  * reason, and a second watcher on the same checkpoints resumes where the first stopped: with Kafka's
  * committed offsets moved past unread messages behind its back, only the restore-and-seek finds them.
  */
-import { mkdtempSync, rmSync } from 'node:fs';
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { Kafka, logLevel, Partitioners } from 'kafkajs';
@@ -12,6 +12,9 @@ import { pino } from 'pino';
 import { Registry } from 'prom-client';
 import { afterAll, describe, expect, inject, it } from 'vitest';
 import { parseConfig } from '../../src/config/index.js';
+import { decodeScoredEvent } from '../../src/events/index.js';
+import type { ScoredEvent } from '../../src/events/index.js';
+import { buildReference, formatReference } from '../../src/reference/index.js';
 import { FileCheckpointStore } from '../../src/state/index.js';
 import { createWatcher } from '../../src/stream/index.js';
 import type { Watcher } from '../../src/stream/index.js';
@@ -123,10 +126,21 @@ describe('headroom watch on the real broker', () => {
   const logLines: string[] = [];
   const watchers: Watcher[] = [];
 
+  // parcel-damage has a reference file (loaded at start); doc-router has none and must still be watched.
+  const referenceEvents = makeEvents(800, 9, Date.UTC(2026, 10, 1), 3_600_000, 'ref').filter((e) => e.model === 'parcel-damage');
+  const referenceDir = mkdtempSync(join(tmpdir(), 'headroom-watch-ref-'));
+  const referencePath = join(referenceDir, 'parcel-damage.json');
+  const decodedReference = referenceEvents.map((e) => {
+    const decoded = decodeScoredEvent(Buffer.from(e.wire));
+    if (!decoded.ok) throw new Error(`reference event does not decode: ${decoded.detail}`);
+    return decoded.event;
+  });
+  writeFileSync(referencePath, formatReference(buildReference(decodedReference as ScoredEvent[], { createdAt: '2026-11-02T00:00:00Z', thresholds: THRESHOLDS })));
+
   const { config } = parseConfig(
     {
       kafka: { brokers, clientId: 'headroom-watch-test', groupId, topics: [topic] },
-      models: MODELS.map((name) => ({ name, thresholds: THRESHOLDS, segmentKeys: ['line'] })),
+      models: MODELS.map((name) => ({ name, thresholds: THRESHOLDS, segmentKeys: ['line'], ...(name === 'parcel-damage' ? { reference: referencePath } : {}) })),
       windows: ['5m', '1h'],
       lateness: '2m',
       checkpoint: { dir, interval: '1s' },
@@ -175,6 +189,7 @@ describe('headroom watch on the real broker', () => {
     await producer.disconnect();
     await admin.disconnect();
     rmSync(dir, { recursive: true, force: true });
+    rmSync(referenceDir, { recursive: true, force: true });
   });
 
   it('counts every event once, across a restart from its checkpoints', async () => {
@@ -218,6 +233,15 @@ describe('headroom watch on the real broker', () => {
       for (const r of rejected) reasons.set(r.reason, (reasons.get(r.reason) ?? 0) + 1);
       for (const [reason, n] of reasons) expect(value(samples, 'headroom_events_rejected_total', { reason }), reason).toBe(n);
       expect(samples.filter((s) => s.name === 'headroom_events_rejected_total')).toHaveLength(reasons.size);
+      // The reference: loaded for parcel-damage with the shares computed here from its events; doc-router has none.
+      expect(value(samples, 'headroom_reference_loaded', { model: 'parcel-damage', version: '2026.11.3' })).toBe(1);
+      expect(value(samples, 'headroom_reference_loaded', { model: 'doc-router', version: 'v7' })).toBe(0);
+      for (const t of THRESHOLDS) {
+        const share = referenceEvents.filter((e) => e.margin < t).length / referenceEvents.length;
+        expect(value(samples, 'headroom_reference_low_margin_ratio', { model: 'parcel-damage', version: '2026.11.3', segment: 'all', threshold: String(t) })).toBeCloseTo(share, 12);
+      }
+      expect(samples.filter((s) => s.name === 'headroom_drift_ks' && s.labels.model === 'parcel-damage' && s.labels.segment === 'all' && s.labels.window === '5m')).toHaveLength(1);
+      expect(samples.filter((s) => s.name.startsWith('headroom_drift_') && s.labels.model === 'doc-router')).toHaveLength(0);
     };
     await check(one, first, bad);
 
