@@ -11,13 +11,15 @@
  *   state's next offset is skipped (a fetch made before the seek took effect).
  * - Every checkpoint interval (and at shutdown) each owned state is saved, THEN its next offset is
  *   committed to Kafka, so Kafka tools see the lag and a crash between the two only replays into the
- *   state that was saved.
+ *   state that was saved. States are snapshotted only between batches, and a partition whose
+ *   dead-letter copies are not yet on the dead-letter topic is not checkpointed: a crash then replays
+ *   those messages and copies them again (at least once), never loses a copy.
  */
 import { createServer } from 'node:http';
 import type { Server } from 'node:http';
 import type { AddressInfo } from 'node:net';
 import { Kafka } from 'kafkajs';
-import type { Admin, Consumer, ConsumerGroupJoinEvent, EachBatchPayload, KafkaConfig as KafkajsConfig } from 'kafkajs';
+import type { Admin, Consumer, ConsumerGroupJoinEvent, EachBatchPayload, KafkaConfig as KafkajsConfig, KafkaMessage, Message, Producer } from 'kafkajs';
 import type { Logger } from 'pino';
 import type { Registry } from 'prom-client';
 import { kafkaClientOptions } from '../config/index.js';
@@ -93,6 +95,14 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
   let kafka: Kafka | undefined;
   let admin: Admin | undefined;
   let consumer: Consumer | undefined;
+  let producer: Producer | undefined;
+  const deadLetterTopic = config.kafka.deadLetterTopic;
+  /** Copies of rejected messages not yet acknowledged by the dead-letter topic, per partition. */
+  const deadLetters = new Map<string, Message[]>();
+  /** Next offset of the last snapshot handed to the store, per partition. */
+  const queuedOffset = new Map<string, string>();
+  let inBatch = false;
+  let checkpointDue = false;
   let server: Server | undefined;
   let address: string | undefined;
   let joined = false;
@@ -225,9 +235,16 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
   async function eachBatch(payload: EachBatchPayload): Promise<void> {
     let done!: () => void;
     batchInFlight = new Promise<void>((resolve) => (done = resolve));
+    inBatch = true;
     try {
       await consumeBatch(payload);
+      await flushDeadLetters(partitionKey(payload.batch.topic, payload.batch.partition));
     } finally {
+      inBatch = false;
+      if (checkpointDue && !stopping) {
+        checkpointDue = false;
+        checkpoint().catch((error: unknown) => log.warn({ err: error }, 'checkpoint failed'));
+      }
       done();
     }
   }
@@ -245,12 +262,12 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
       if (BigInt(offset) >= next) {
         const decoded = decodeScoredEvent(message.value ?? EMPTY, limits, Number(message.timestamp));
         if (!decoded.ok) {
-          state.reject(decoded.reason, offset);
+          if (state.reject(decoded.reason, offset)) deadLetter(batch.topic, batch.partition, message, decoded.reason, decoded.field);
           log.debug({ topic: batch.topic, partition: batch.partition, offset, reason: decoded.reason, field: decoded.field }, 'message rejected');
         } else {
           const margins = measureMargins(decoded.event.score, decoded.event.label);
           if (margins.ok) state.apply(decoded.event, margins, offset, now);
-          else state.reject(margins.reason, offset);
+          else if (state.reject(margins.reason, offset)) deadLetter(batch.topic, batch.partition, message, margins.reason, margins.field);
         }
         next = BigInt(offset) + 1n;
       }
@@ -261,30 +278,73 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
     await heartbeat();
   }
 
-  /** Saves every owned state that moved, then commits the saved offsets. Runs one at a time. */
+  /** The original bytes, with why and where from in headers; sent at the end of the batch. */
+  function deadLetter(topic: string, partition: number, message: KafkaMessage, reason: string, field: string): void {
+    if (deadLetterTopic === null) return;
+    const key = partitionKey(topic, partition);
+    let list = deadLetters.get(key);
+    if (list === undefined) {
+      list = [];
+      deadLetters.set(key, list);
+    }
+    list.push({
+      key: message.key,
+      value: message.value,
+      headers: {
+        'headroom-reason': reason,
+        'headroom-field': field,
+        'headroom-source-topic': topic,
+        'headroom-source-partition': String(partition),
+        'headroom-source-offset': message.offset,
+      },
+    });
+  }
+
+  async function flushDeadLetters(key: string): Promise<void> {
+    const list = deadLetters.get(key);
+    if (list === undefined || list.length === 0 || producer === undefined || deadLetterTopic === null) return;
+    const sending = list.length;
+    try {
+      await producer.send({ topic: deadLetterTopic, messages: list.slice(0, sending), acks: -1 });
+      list.splice(0, sending);
+    } catch (error) {
+      // Kept and sent again after the next batch; the partition is not checkpointed meanwhile.
+      log.error({ err: error, topic: deadLetterTopic, messages: sending }, 'dead-letter copies not sent; this partition waits for them before its next checkpoint');
+    }
+  }
+
+  /**
+   * Snapshots every owned state that moved (synchronously, so between batches: see eachBatch and the
+   * timer), then saves them and commits the saved offsets. Saves run one checkpoint at a time.
+   */
   function checkpoint(): Promise<void> {
-    checkpointChain = checkpointChain.then(checkpointOnce, checkpointOnce);
+    const snapshots: { key: string; state: PartitionState; json: PartitionStateJson; next: string }[] = [];
+    for (const state of owned.values()) {
+      const key = partitionKey(state.topic, state.partition);
+      const next = state.nextOffset;
+      if (next === null || (deadLetters.get(key)?.length ?? 0) > 0) continue;
+      if (queuedOffset.get(key) === next) {
+        if (saved.get(key)?.nextOffset === next) lastCheckpointMs.set(key, nowMs()); // nothing new: the checkpoint on disk is current
+        continue;
+      }
+      queuedOffset.set(key, next);
+      snapshots.push({ key, state, json: state.toState() as PartitionStateJson, next });
+    }
+    const run = (): Promise<void> => persist(snapshots);
+    checkpointChain = checkpointChain.then(run, run);
     return checkpointChain;
   }
 
-  async function checkpointOnce(): Promise<void> {
+  async function persist(snapshots: readonly { key: string; state: PartitionState; json: PartitionStateJson; next: string }[]): Promise<void> {
     const commits: { topic: string; partition: number; offset: string }[] = [];
     const failures: unknown[] = [];
     await Promise.all(
-      [...owned.values()].map(async (state) => {
-        const key = partitionKey(state.topic, state.partition);
-        const next = state.nextOffset;
-        if (next === null) return;
-        if (saved.get(key)?.nextOffset === next) {
-          lastCheckpointMs.set(key, nowMs()); // nothing new: the checkpoint on disk is current
-          return;
-        }
-        // toState() is synchronous, so the snapshot and its offset are of one moment between messages.
-        const json = state.toState() as PartitionStateJson;
+      snapshots.map(async ({ key, state, json, next }) => {
         try {
           await store.save(group, state.topic, state.partition, json);
         } catch (error) {
           failures.push(error);
+          queuedOffset.delete(key); // try again at the next checkpoint
           log.error({ err: error, topic: state.topic, partition: state.partition }, 'checkpoint failed; the offset is not committed');
           return;
         }
@@ -324,6 +384,11 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
       admin = a;
       await a.connect().catch((e: unknown) => Promise.reject(startError(`connecting to ${config.kafka.brokers.join(',')}`, e)));
       await refreshOffsets('low').catch((e: unknown) => Promise.reject(startError(`reading offsets of ${[...topics].join(', ')}`, e)));
+      if (deadLetterTopic !== null) {
+        const p = kafka.producer({ allowAutoTopicCreation: false });
+        producer = p;
+        await p.connect().catch((e: unknown) => Promise.reject(startError(`connecting the dead-letter producer for ${deadLetterTopic}`, e)));
+      }
       const c = kafka.consumer({ groupId: group });
       consumer = c;
       c.on(c.events.GROUP_JOIN, onGroupJoin);
@@ -337,7 +402,15 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
       await c.connect().catch((e: unknown) => Promise.reject(startError(`connecting the consumer of group ${group}`, e)));
       await c.subscribe({ topics: [...topics], fromBeginning: true });
       await c.run({ autoCommit: false, eachBatchAutoResolve: false, eachBatch });
-      every(Math.max(config.checkpoint.intervalMs, 100), checkpoint, 'checkpoint');
+      every(
+        Math.max(config.checkpoint.intervalMs, 100),
+        () => {
+          if (!inBatch) return checkpoint();
+          checkpointDue = true; // taken when the batch ends, so no snapshot holds a half-sent batch
+          return Promise.resolve();
+        },
+        'checkpoint',
+      );
       every(deps.lagIntervalMs ?? Math.max(config.checkpoint.intervalMs, 1_000), () => refreshOffsets('high'), 'lag refresh');
       log.info({ group, topics: [...topics] }, 'consumer running');
     } catch (error) {
@@ -364,8 +437,10 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
         if (c !== undefined && joined) c.pause([...topics].map((topic) => ({ topic })));
         return batchInFlight;
       });
+      await step('send dead-letter copies', () => Promise.all([...deadLetters.keys()].map((key) => flushDeadLetters(key))));
       await step('checkpoint and commit', () => (joined ? checkpoint() : undefined));
       await step('leave the group', () => c?.disconnect());
+      await step('disconnect the dead-letter producer', () => producer?.disconnect());
       await step('disconnect admin', () => admin?.disconnect());
       await step('close HTTP', () => closeServer());
       await step('close checkpoint store', () => store.close());

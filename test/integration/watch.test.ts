@@ -3,6 +3,7 @@
  * low-margin ratios equal the ones computed here from the same events, rejections are counted by
  * reason, and a second watcher on the same checkpoints resumes where the first stopped: with Kafka's
  * committed offsets moved past unread messages behind its back, only the restore-and-seek finds them.
+ * Every malformed message ends up once on the dead-letter topic, byte for byte.
  */
 import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
@@ -122,6 +123,7 @@ describe('headroom watch on the real broker', () => {
   const producer = kafka.producer({ createPartitioner: Partitioners.DefaultPartitioner, allowAutoTopicCreation: false });
   const topic = uniqueName('watch-events');
   const groupId = uniqueName('watch-group');
+  const deadLetterTopic = uniqueName('watch-rejected');
   const dir = mkdtempSync(join(tmpdir(), 'headroom-watch-'));
   const logLines: string[] = [];
   const watchers: Watcher[] = [];
@@ -139,7 +141,7 @@ describe('headroom watch on the real broker', () => {
 
   const { config } = parseConfig(
     {
-      kafka: { brokers, clientId: 'headroom-watch-test', groupId, topics: [topic] },
+      kafka: { brokers, clientId: 'headroom-watch-test', groupId, topics: [topic], deadLetterTopic },
       models: MODELS.map((name) => ({ name, thresholds: THRESHOLDS, segmentKeys: ['line'], ...(name === 'parcel-damage' ? { reference: referencePath } : {}) })),
       windows: ['5m', '1h'],
       lateness: '2m',
@@ -194,7 +196,13 @@ describe('headroom watch on the real broker', () => {
 
   it('counts every event once, across a restart from its checkpoints', async () => {
     await admin.connect();
-    await admin.createTopics({ topics: [{ topic, numPartitions: PARTITIONS, replicationFactor: 1 }], waitForLeaders: true });
+    await admin.createTopics({
+      topics: [
+        { topic, numPartitions: PARTITIONS, replicationFactor: 1 },
+        { topic: deadLetterTopic, numPartitions: 1, replicationFactor: 1 },
+      ],
+      waitForLeaders: true,
+    });
     await producer.connect();
 
     // Every event time within 90 s, ending 10 s ago: inside the 2m lateness, and the 5m view holds them all.
@@ -280,5 +288,33 @@ describe('headroom watch on the real broker', () => {
     // The committed offsets are the checkpointed next offsets: all of the topic.
     const offsets = await admin.fetchOffsets({ groupId, topics: [topic] });
     expect(offsets[0]?.partitions.reduce((sum, p) => sum + Number(p.offset), 0)).toBe(total);
+
+    // The dead-letter topic holds each malformed message once, byte for byte, with its reason and origin.
+    const copies: { value: string; reason: string; sourceTopic: string; where: string }[] = [];
+    const reader = kafka.consumer({ groupId: uniqueName('watch-dlq-reader') });
+    await reader.connect();
+    await reader.subscribe({ topics: [deadLetterTopic], fromBeginning: true });
+    const header = (h: unknown): string => (h === undefined ? '' : String(h));
+    await reader.run({
+      eachMessage: async ({ message }) => {
+        const h = message.headers ?? {};
+        copies.push({
+          value: message.value?.toString('utf8') ?? '',
+          reason: header(h['headroom-reason']),
+          sourceTopic: header(h['headroom-source-topic']),
+          where: `${header(h['headroom-source-partition'])}@${header(h['headroom-source-offset'])}`,
+        });
+      },
+    });
+    try {
+      await until('the dead-letter copies', () => copies.length >= bad.length + moreBad.length, 60_000);
+      await sleep(1_000); // a copy too many would arrive in this time
+    } finally {
+      await reader.disconnect();
+    }
+    const allBad = [...bad, ...moreBad];
+    expect(copies.map((c) => `${c.reason}|${c.value}`).sort()).toEqual(allBad.map((b) => `${b.reason}|${b.value ?? ''}`).sort());
+    expect(copies.every((c) => c.sourceTopic === topic)).toBe(true);
+    expect(new Set(copies.map((c) => c.where)).size).toBe(allBad.length);
   }, 240_000);
 });
