@@ -106,6 +106,8 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
   let server: Server | undefined;
   let address: string | undefined;
   let joined = false;
+  /** Set at the first assignment: from then on there are states to checkpoint at close. */
+  let everJoined = false;
   let stopping = false;
   let fatal: HeadroomError | undefined;
   let restoreFailure: HeadroomError | undefined;
@@ -230,6 +232,7 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
       }
     }
     joined = true;
+    everJoined = true;
   }
 
   async function eachBatch(payload: EachBatchPayload): Promise<void> {
@@ -394,6 +397,7 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
       c.on(c.events.GROUP_JOIN, onGroupJoin);
       c.on(c.events.CRASH, (event) => {
         log.error({ err: event.payload.error, restart: event.payload.restart }, 'consumer crashed');
+        joined = false; // not ready until kafkajs has rejoined (the next GROUP_JOIN) or for good
         if (!event.payload.restart && !stopping) {
           fatal = new HeadroomError('HR_ERR_WATCH_CONSUMER_CRASHED', event.payload.error.message, { cause: event.payload.error });
           deps.onFatal?.(fatal);
@@ -438,7 +442,7 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
         return batchInFlight;
       });
       await step('send dead-letter copies', () => Promise.all([...deadLetters.keys()].map((key) => flushDeadLetters(key))));
-      await step('checkpoint and commit', () => (joined ? checkpoint() : undefined));
+      await step('checkpoint and commit', () => (everJoined ? checkpoint() : undefined));
       await step('leave the group', () => c?.disconnect());
       await step('disconnect the dead-letter producer', () => producer?.disconnect());
       await step('disconnect admin', () => admin?.disconnect());
