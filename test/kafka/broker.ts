@@ -44,9 +44,15 @@ export async function freePort(): Promise<number> {
   });
 }
 
-/** Kafka's cluster id: 16 random bytes, URL-safe base64 without padding (what StorageTool random-uuid prints). */
+/**
+ * Kafka's cluster id: 16 random bytes, URL-safe base64 without padding (what StorageTool random-uuid
+ * prints). One in 64 starts with '-', which StorageTool's argument parser takes for an option; draw again.
+ */
 function clusterId(): string {
-  return randomBytes(16).toString('base64url');
+  for (;;) {
+    const id = randomBytes(16).toString('base64url');
+    if (!id.startsWith('-')) return id;
+  }
 }
 
 function serverProperties(dataDir: string, brokerPort: number, controllerPort: number, extra: Readonly<Record<string, string>>): string {
