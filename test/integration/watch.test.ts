@@ -21,6 +21,7 @@ import { createWatcher } from '../../src/stream/index.js';
 import type { Watcher } from '../../src/stream/index.js';
 import { uniqueName } from '../harness/names.js';
 import { parseExposition, value } from '../unit/serve/exposition.js';
+import { rng } from '../unit/events/prng.js';
 
 const PARTITIONS = 3;
 const FIRST = 3_000;
@@ -38,16 +39,9 @@ interface Produced {
   readonly wire: string;
 }
 
-/** A small deterministic generator (mulberry32), so a failure can be replayed. */
+/** A deterministic generator (mulberry32, shared with the unit tests), so a failure can be replayed. */
 function random(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
+  return rng(seed).next;
 }
 
 function makeEvents(n: number, seed: number, fromMs: number, spanMs: number, idPrefix: string): Produced[] {

@@ -1,6 +1,7 @@
 /** Scored events for the reference and CLI tests, made through the real decoder so they are valid ones. */
 import { validateScoredEvent } from '../../../src/events/index.js';
 import type { ScoredEvent } from '../../../src/events/index.js';
+import { rng } from '../events/prng.js';
 
 export const MODEL = 'parcel-damage';
 export const VERSION = '2026.11.3';
@@ -21,16 +22,9 @@ export function probabilityEvent(p: number, label?: number | string, extra: Reco
   return event({ score: { kind: 'probability', p }, ...(label === undefined ? {} : { label }), ...extra });
 }
 
-/** A small seeded PRNG (mulberry32): repeatable data without fixtures. */
+/** Repeatable data without fixtures (mulberry32, shared with the other unit tests). */
 export function seeded(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
+  return rng(seed).next;
 }
 
 /**

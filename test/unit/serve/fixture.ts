@@ -9,6 +9,7 @@ import { buildReference, formatReference, parseReferenceText } from '../../../sr
 import type { LoadedReference } from '../../../src/reference/index.js';
 import { MarginWindows, STANDARD_VIEWS } from '../../../src/sketch/index.js';
 import type { PartitionInfo, Readiness, SeriesSnapshot, WatchedSeriesSource } from '../../../src/serve/index.js';
+import { rng } from '../events/prng.js';
 
 export const MODEL = 'parcel-damage';
 export const VERSION = '2026.11.3';
@@ -18,16 +19,9 @@ export const VIEWS = STANDARD_VIEWS;
 export const T0 = Date.UTC(2026, 10, 20, 6, 0, 0);
 export const MINUTE = 60_000;
 
-/** mulberry32: repeatable data without fixtures. */
+/** Repeatable data without fixtures (mulberry32, shared with the other unit tests). */
 export function seeded(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
+  return rng(seed).next;
 }
 
 /**
