@@ -20,3 +20,13 @@ export async function caughtAsync(f: () => Promise<unknown>): Promise<HeadroomEr
   }
   throw new Error('expected a HeadroomError, nothing was thrown');
 }
+
+/** The code of the HeadroomError that `f` throws, a description of anything else, or undefined. */
+export function codeOf(f: () => unknown): string | undefined {
+  try {
+    f();
+  } catch (e) {
+    return isHeadroomError(e) ? e.code : `not a HeadroomError: ${String(e)}`;
+  }
+  return undefined;
+}

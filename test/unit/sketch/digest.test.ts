@@ -1,22 +1,13 @@
 import { describe, expect, it } from 'vitest';
-import { isHeadroomError } from '../../../src/errors.js';
 import { MarginDigest } from '../../../src/sketch/digest.js';
 import type { MarginDistribution } from '../../../src/sketch/distribution.js';
 import { distributionKs, ExactSample, makeSamples, uniform } from './samples.js';
+import { codeOf } from '../caught.js';
 
 function digestOf(values: ArrayLike<number>, options = {}): MarginDigest {
   const d = new MarginDigest(options);
   for (let i = 0; i < values.length; i += 1) d.add(values[i] as number);
   return d;
-}
-
-function codeOf(f: () => unknown): string | undefined {
-  try {
-    f();
-  } catch (e) {
-    return isHeadroomError(e) ? e.code : `not a HeadroomError: ${String(e)}`;
-  }
-  return undefined;
 }
 
 /** Checks everything MarginDistribution's doc promises, on any distribution. */

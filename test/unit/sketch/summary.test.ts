@@ -1,17 +1,8 @@
 import { describe, expect, it } from 'vitest';
-import { isHeadroomError } from '../../../src/errors.js';
 import { MarginSummary } from '../../../src/sketch/summary.js';
 import { normaliseThresholds } from '../../../src/sketch/thresholds.js';
 import { makeSamples } from './samples.js';
-
-function codeOf(f: () => unknown): string | undefined {
-  try {
-    f();
-  } catch (e) {
-    return isHeadroomError(e) ? e.code : `not a HeadroomError: ${String(e)}`;
-  }
-  return undefined;
-}
+import { codeOf } from '../caught.js';
 
 describe('MarginSummary: exact counters', () => {
   it('counts x < θ exactly at each threshold, with θ itself not low', () => {

@@ -7,20 +7,12 @@ import { isHeadroomError } from '../../../src/errors.js';
 import { windowConfig } from '../../../src/sketch/window-config.js';
 import { MarginWindows } from '../../../src/sketch/windows.js';
 import { distributionKs, ExactSample, makeSamples, uniform } from './samples.js';
+import { codeOf } from '../caught.js';
 
 const MIN = 60_000;
 const HOUR = 60 * MIN;
 const T0 = Date.UTC(2026, 11, 1); // midnight, so minute k starts at T0 + k·MIN
 const at = (minute: number, offsetMs = 0): number => T0 + minute * MIN + offsetMs;
-
-function codeOf(f: () => unknown): string | undefined {
-  try {
-    f();
-  } catch (e) {
-    return isHeadroomError(e) ? e.code : `not a HeadroomError: ${String(e)}`;
-  }
-  return undefined;
-}
 
 /** One event per minute for minutes [0, minutes), margin (k mod 10)/10, each at 30 s into its minute. */
 function oncePerMinute(minutes: number): MarginWindows {
