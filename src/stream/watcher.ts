@@ -262,7 +262,8 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
     for (const message of batch.messages) {
       if (stopping || !isRunning() || isStale()) break;
       const offset = message.offset;
-      if (BigInt(offset) >= next) {
+      const at = BigInt(offset);
+      if (at >= next) {
         const decoded = decodeScoredEvent(message.value ?? EMPTY, limits, Number(message.timestamp));
         if (!decoded.ok) {
           if (state.reject(decoded.reason, offset)) deadLetter(batch.topic, batch.partition, message, decoded.reason, decoded.field);
@@ -272,7 +273,7 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
           if (margins.ok) state.apply(decoded.event, margins, offset, now);
           else if (state.reject(margins.reason, offset)) deadLetter(batch.topic, batch.partition, message, margins.reason, margins.field);
         }
-        next = BigInt(offset) + 1n;
+        next = at + 1n;
       }
       resolveOffset(offset);
       n += 1;
