@@ -16,7 +16,7 @@ export function describeConfig(config: HeadroomConfig): string {
     `configuration ${config.source}`,
     `kafka: brokers ${list(k.brokers)}; client ${k.clientId}; group ${k.groupId}`,
     `  topics ${list(k.topics)}; outcomes ${list(k.outcomeTopics)}; dead letters ${k.deadLetterTopic ?? '(not copied)'}`,
-    `  tls ${tls}; sasl ${sasl}`,
+    `  tls ${tls}; sasl ${sasl}; session timeout ${formatDuration(k.sessionTimeoutMs)}, heartbeat every ${formatDuration(k.heartbeatIntervalMs)}`,
     ...config.models.map(
       (m) =>
         `model ${m.name}: thresholds ${m.thresholds.join(', ')}; segments ${list(m.segmentKeys)}; max series ${m.maxSeries}; reference ${m.reference ?? '(none)'}`,

@@ -17,6 +17,7 @@ import type { HeadroomConfig, KafkaSaslConfig, ModelConfig, WindowViewConfig } f
 /** Below this a checkpoint (every partition's state, written and synced) would run back to back. */
 export const MIN_CHECKPOINT_INTERVAL_MS = 100;
 export const ANY_MODEL = '*';
+export const MIN_SESSION_TIMEOUT_MS = 6_000;
 
 class ThresholdProblem extends Error {
   constructor(
@@ -87,6 +88,12 @@ export function resolveParsed(
         `kafka.sasl is set but kafka.tls is not: ${k.sasl.mechanism === 'plain' ? 'the password crosses the network in clear text' : 'the traffic after the SCRAM exchange is unencrypted'}; set kafka.tls: true unless the network is private`,
       );
     }
+  }
+  // The broker's group.min.session.timeout.ms defaults to 6 s; kafkajs wants heartbeats well inside the session.
+  if (k.sessionTimeout < MIN_SESSION_TIMEOUT_MS) {
+    report(['kafka', 'sessionTimeout'], `${formatDuration(k.sessionTimeout)} is below ${formatDuration(MIN_SESSION_TIMEOUT_MS)}, the broker's default group.min.session.timeout.ms; use 6s or more`);
+  } else if (k.heartbeatInterval * 3 > k.sessionTimeout) {
+    report(['kafka', 'heartbeatInterval'], `${formatDuration(k.heartbeatInterval)} is more than a third of kafka.sessionTimeout (${formatDuration(k.sessionTimeout)}); a member that misses two heartbeats would lose its partitions — use at most ${formatDuration(Math.floor(k.sessionTimeout / 3))}`);
   }
   if (k.tls !== null && !k.tls.rejectUnauthorized) warnings.push('kafka.tls.rejectUnauthorized is false: any broker certificate is accepted; give kafka.tls.ca instead');
   if (k.tls !== null && (k.tls.cert === null) !== (k.tls.key === null)) {
@@ -173,6 +180,8 @@ export function resolveParsed(
       deadLetterTopic: k.deadLetterTopic,
       tls: k.tls,
       sasl,
+      sessionTimeoutMs: k.sessionTimeout,
+      heartbeatIntervalMs: k.heartbeatInterval,
     },
     models,
     windows,

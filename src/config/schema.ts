@@ -57,6 +57,10 @@ const kafka = section({
   // `tls: true` is Node's defaults; `false` and absent are no TLS.
   tls: z.preprocess((v) => (v === true ? {} : v === false ? null : v), tls.nullable()).default(null),
   sasl: sasl.nullable().default(null),
+  // kafkajs's own defaults. A crashed watcher's partitions wait this long before another member (or its
+  // own restart) gets them, so a shorter session means a faster recovery and more sensitivity to GC pauses.
+  sessionTimeout: duration.prefault('30s'),
+  heartbeatInterval: duration.prefault('3s'),
 });
 
 const model = section({

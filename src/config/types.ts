@@ -37,6 +37,9 @@ export interface KafkaConfig {
   readonly deadLetterTopic: string | null;
   readonly tls: KafkaTlsConfig | null;
   readonly sasl: KafkaSaslConfig | null;
+  /** The consumer group's session timeout: how long a silent member keeps its partitions. */
+  readonly sessionTimeoutMs: number;
+  readonly heartbeatIntervalMs: number;
 }
 
 export interface ModelConfig {

@@ -393,7 +393,7 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
         producer = p;
         await p.connect().catch((e: unknown) => Promise.reject(startError(`connecting the dead-letter producer for ${deadLetterTopic}`, e)));
       }
-      const c = kafka.consumer({ groupId: group });
+      const c = kafka.consumer({ groupId: group, sessionTimeout: config.kafka.sessionTimeoutMs, heartbeatInterval: config.kafka.heartbeatIntervalMs });
       consumer = c;
       c.on(c.events.GROUP_JOIN, onGroupJoin);
       c.on(c.events.CRASH, (event) => {

@@ -20,6 +20,7 @@ import { FileCheckpointStore } from '../../src/state/index.js';
 import { createWatcher } from '../../src/stream/index.js';
 import type { Watcher } from '../../src/stream/index.js';
 import { uniqueName } from '../harness/names.js';
+import { sleep, until } from '../harness/wait.js';
 import { parseExposition, value } from '../unit/serve/exposition.js';
 import { rng } from '../unit/events/prng.js';
 
@@ -97,17 +98,6 @@ function expectedCounts(events: readonly Produced[]): Map<string, number> {
 function expectedRatio(events: readonly Produced[], model: string, segment: string, threshold: number): number {
   const inSeries = events.filter((e) => e.model === model && (segment === 'all' || segment === `line=${e.line}`));
   return inSeries.filter((e) => e.margin < threshold).length / inSeries.length;
-}
-
-const sleep = (ms: number): Promise<void> => new Promise((resolve) => setTimeout(resolve, ms));
-
-async function until(what: string, check: () => boolean | Promise<boolean>, timeoutMs = 90_000): Promise<void> {
-  const deadline = performance.now() + timeoutMs;
-  while (performance.now() < deadline) {
-    if (await check()) return;
-    await sleep(100);
-  }
-  throw new Error(`timed out after ${timeoutMs} ms waiting for ${what}`);
 }
 
 describe('headroom watch on the real broker', () => {

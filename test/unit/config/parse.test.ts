@@ -45,6 +45,8 @@ describe('parseConfig: valid files', () => {
       deadLetterTopic: null,
       tls: null,
       sasl: null,
+      sessionTimeoutMs: 30_000,
+      heartbeatIntervalMs: 3_000,
     });
     expect(config.models).toHaveLength(1);
     const [any] = config.models;
@@ -216,6 +218,12 @@ describe('parseConfig: cross-field checks', () => {
   it('decode limits below their minimum', () => {
     expect(problemsOf(`${MINIMAL}decode: { maxBytes: 0 }\n`)).toEqual([expect.stringMatching(/^headroom\.yaml: decode\.maxBytes: must be at least 1, got 0/)]);
     expect(parseConfig(`${MINIMAL}decode: { maxSegmentKeys: 0 }\n`, 'h.yaml', {}).config.decode.maxSegmentKeys).toBe(0);
+  });
+
+  it('a session timeout below the broker minimum, or heartbeats too sparse for it; a third of it is allowed', () => {
+    expect(problemsOf(`${MINIMAL}  sessionTimeout: 5s\n`)).toEqual([expect.stringMatching(/^headroom\.yaml: kafka\.sessionTimeout: 5s is below 6s, the broker's default group\.min\.session\.timeout\.ms/)]);
+    expect(problemsOf(`${MINIMAL}  sessionTimeout: 9s\n  heartbeatInterval: 3001ms\n`)).toEqual([expect.stringMatching(/^headroom\.yaml: kafka\.heartbeatInterval: 3001ms is more than a third of kafka\.sessionTimeout \(9s\).*use at most 3s \(line 5\)$/)]);
+    expect(parseConfig(`${MINIMAL}  sessionTimeout: 9s\n  heartbeatInterval: 3s\n`, 'headroom.yaml', {}).config.kafka).toMatchObject({ sessionTimeoutMs: 9_000, heartbeatIntervalMs: 3_000 });
   });
 
   it('a client certificate without its key', () => {
