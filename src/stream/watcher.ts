@@ -19,7 +19,7 @@ import { createServer } from 'node:http';
 import type { Server } from 'node:http';
 import type { AddressInfo } from 'node:net';
 import { Kafka } from 'kafkajs';
-import type { Admin, Consumer, ConsumerGroupJoinEvent, EachBatchPayload, KafkaConfig as KafkajsConfig, KafkaMessage, Message, Producer } from 'kafkajs';
+import type { Admin, Consumer, ConsumerGroupJoinEvent, EachBatchPayload, KafkaConfig as KafkajsConfig, Producer } from 'kafkajs';
 import type { Logger } from 'pino';
 import type { Registry } from 'prom-client';
 import { kafkaClientOptions } from '../config/index.js';
@@ -33,6 +33,7 @@ import { PartitionState } from '../state/index.js';
 import type { CheckpointStore, PartitionStateJson } from '../state/index.js';
 import { loadReferenceFile } from '../sources/index.js';
 import { kafkaLogCreator } from './kafka-log.js';
+import { DeadLetters } from './dead-letters.js';
 import { createSeriesSource, ReferenceIndex } from './source.js';
 
 export interface WatcherDependencies {
@@ -97,8 +98,7 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
   let consumer: Consumer | undefined;
   let producer: Producer | undefined;
   const deadLetterTopic = config.kafka.deadLetterTopic;
-  /** Copies of rejected messages not yet acknowledged by the dead-letter topic, per partition. */
-  const deadLetters = new Map<string, Message[]>();
+  const deadLetters = deadLetterTopic === null ? undefined : new DeadLetters(deadLetterTopic, () => producer, log);
   /** Next offset of the last snapshot handed to the store, per partition. */
   const queuedOffset = new Map<string, string>();
   let inBatch = false;
@@ -111,6 +111,8 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
   let stopping = false;
   let fatal: HeadroomError | undefined;
   let restoreFailure: HeadroomError | undefined;
+  /** Set while the periodic offset fetch fails: the consumer may not have noticed a broker outage yet. */
+  let brokerUnreachable: string | undefined;
   let batchInFlight: Promise<void> = Promise.resolve();
   let checkpointChain: Promise<void> = Promise.resolve();
   const timers: NodeJS.Timeout[] = [];
@@ -121,6 +123,7 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
     if (stopping) reasons.push('shutting down');
     if (fatal !== undefined) reasons.push(fatal.message);
     if (restoreFailure !== undefined) reasons.push(restoreFailure.message);
+    if (brokerUnreachable !== undefined) reasons.push(`broker unreachable: ${brokerUnreachable}`);
     if (!joined) reasons.push(`not yet a member of consumer group ${group}`);
     return { ready: reasons.length === 0, reasons };
   };
@@ -241,7 +244,7 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
     inBatch = true;
     try {
       await consumeBatch(payload);
-      await flushDeadLetters(partitionKey(payload.batch.topic, payload.batch.partition));
+      await deadLetters?.flush(partitionKey(payload.batch.topic, payload.batch.partition));
     } finally {
       inBatch = false;
       if (checkpointDue && !stopping) {
@@ -253,7 +256,8 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
   }
 
   async function consumeBatch({ batch, resolveOffset, heartbeat, isRunning, isStale }: EachBatchPayload): Promise<void> {
-    const state = owned.get(partitionKey(batch.topic, batch.partition));
+    const key = partitionKey(batch.topic, batch.partition);
+    const state = owned.get(key);
     if (state === undefined) return; // not restored (see restoreFailure) or no longer ours
     const now = nowMs();
     const limits = config.decode;
@@ -266,12 +270,12 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
       if (at >= next) {
         const decoded = decodeScoredEvent(message.value ?? EMPTY, limits, Number(message.timestamp));
         if (!decoded.ok) {
-          if (state.reject(decoded.reason, offset)) deadLetter(batch.topic, batch.partition, message, decoded.reason, decoded.field);
+          if (state.reject(decoded.reason, offset)) deadLetters?.add(key, batch.topic, batch.partition, message, decoded.reason, decoded.field);
           log.debug({ topic: batch.topic, partition: batch.partition, offset, reason: decoded.reason, field: decoded.field }, 'message rejected');
         } else {
           const margins = measureMargins(decoded.event.score, decoded.event.label);
           if (margins.ok) state.apply(decoded.event, margins, offset, now);
-          else if (state.reject(margins.reason, offset)) deadLetter(batch.topic, batch.partition, message, margins.reason, margins.field);
+          else if (state.reject(margins.reason, offset)) deadLetters?.add(key, batch.topic, batch.partition, message, margins.reason, margins.field);
         }
         next = at + 1n;
       }
@@ -280,41 +284,6 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
       if (n % HEARTBEAT_EVERY === 0) await heartbeat();
     }
     await heartbeat();
-  }
-
-  /** The original bytes, with why and where from in headers; sent at the end of the batch. */
-  function deadLetter(topic: string, partition: number, message: KafkaMessage, reason: string, field: string): void {
-    if (deadLetterTopic === null) return;
-    const key = partitionKey(topic, partition);
-    let list = deadLetters.get(key);
-    if (list === undefined) {
-      list = [];
-      deadLetters.set(key, list);
-    }
-    list.push({
-      key: message.key,
-      value: message.value,
-      headers: {
-        'headroom-reason': reason,
-        'headroom-field': field,
-        'headroom-source-topic': topic,
-        'headroom-source-partition': String(partition),
-        'headroom-source-offset': message.offset,
-      },
-    });
-  }
-
-  async function flushDeadLetters(key: string): Promise<void> {
-    const list = deadLetters.get(key);
-    if (list === undefined || list.length === 0 || producer === undefined || deadLetterTopic === null) return;
-    const sending = list.length;
-    try {
-      await producer.send({ topic: deadLetterTopic, messages: list.slice(0, sending), acks: -1 });
-      list.splice(0, sending);
-    } catch (error) {
-      // Kept and sent again after the next batch; the partition is not checkpointed meanwhile.
-      log.error({ err: error, topic: deadLetterTopic, messages: sending }, 'dead-letter copies not sent; this partition waits for them before its next checkpoint');
-    }
   }
 
   /**
@@ -326,7 +295,7 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
     for (const state of owned.values()) {
       const key = partitionKey(state.topic, state.partition);
       const next = state.nextOffset;
-      if (next === null || (deadLetters.get(key)?.length ?? 0) > 0) continue;
+      if (next === null || (deadLetters?.pending(key) ?? 0) > 0) continue;
       if (queuedOffset.get(key) === next) {
         if (saved.get(key)?.nextOffset === next) lastCheckpointMs.set(key, nowMs()); // nothing new: the checkpoint on disk is current
         continue;
@@ -368,9 +337,15 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
     if (failures.length > 0) throw failures[0];
   }
 
+  /** Runs `task` every `ms`, skipping a tick while the last run is still going (kafkajs retries can take tens of seconds in an outage). */
   function every(ms: number, task: () => Promise<void>, what: string): void {
+    let running = false;
     const timer = setInterval(() => {
-      task().catch((error: unknown) => log.warn({ err: error }, `${what} failed`));
+      if (running) return;
+      running = true;
+      task()
+        .catch((error: unknown) => log.warn({ err: error }, `${what} failed`))
+        .finally(() => (running = false));
     }, ms);
     timer.unref();
     timers.push(timer);
@@ -416,7 +391,21 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
         },
         'checkpoint',
       );
-      every(deps.lagIntervalMs ?? Math.max(config.checkpoint.intervalMs, 1_000), () => refreshOffsets('high'), 'lag refresh');
+      every(
+        deps.lagIntervalMs ?? Math.max(config.checkpoint.intervalMs, 1_000),
+        () =>
+          refreshOffsets('high').then(
+            () => {
+              if (brokerUnreachable !== undefined) log.info('broker reachable again');
+              brokerUnreachable = undefined;
+            },
+            (error: unknown) => {
+              brokerUnreachable = error instanceof Error ? error.message : String(error);
+              throw error;
+            },
+          ),
+        'lag refresh',
+      );
       log.info({ group, topics: [...topics] }, 'consumer running');
     } catch (error) {
       await close().catch(() => undefined);
@@ -442,7 +431,7 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
         if (c !== undefined && joined) c.pause([...topics].map((topic) => ({ topic })));
         return batchInFlight;
       });
-      await step('send dead-letter copies', () => Promise.all([...deadLetters.keys()].map((key) => flushDeadLetters(key))));
+      await step('send dead-letter copies', () => deadLetters?.flushAll());
       await step('checkpoint and commit', () => (everJoined ? checkpoint() : undefined));
       await step('leave the group', () => c?.disconnect());
       await step('disconnect the dead-letter producer', () => producer?.disconnect());

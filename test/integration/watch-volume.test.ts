@@ -39,13 +39,15 @@ describe('headroom watch at volume on the real broker', () => {
   const dirs: string[] = [];
   const watchers: Watcher[] = [];
   const errorLines: string[] = [];
+  const groupOf = new Map<Watcher, string>();
 
   const startWatcher = async (topic: string, deadLetterTopic: string | null): Promise<Watcher> => {
     const dir = mkdtempSync(join(tmpdir(), 'headroom-volume-'));
     dirs.push(dir);
+    const groupId = uniqueName('volume-group');
     const { config } = parseConfig(
       {
-        kafka: { brokers, clientId: 'headroom-volume-test', groupId: uniqueName('volume-group'), topics: [topic], deadLetterTopic },
+        kafka: { brokers, clientId: 'headroom-volume-test', groupId, topics: [topic], deadLetterTopic },
         models: [{ name: '*', thresholds: THRESHOLDS, segmentKeys: ['line', 'site'] }],
         windows: ['5m', '1h'],
         checkpoint: { dir, interval: '2s' },
@@ -58,6 +60,7 @@ describe('headroom watch at volume on the real broker', () => {
     const logger = pino({ level: 'warn' }, { write: (line: string) => void errorLines.push(line) });
     const watcher = createWatcher({ config, store: new FileCheckpointStore({ dir }), logger, registry: new Registry(), nowMs: () => Date.now(), lagIntervalMs: 500 });
     watchers.push(watcher);
+    groupOf.set(watcher, groupId);
     await watcher.start();
     return watcher;
   };
@@ -154,4 +157,39 @@ describe('headroom watch at volume on the real broker', () => {
     expect(copies.every((c) => c.headers['headroom-source-topic'] === topic)).toBe(true);
     expect(watcher.source.readiness()).toEqual({ ready: true, reasons: [] });
   }, 420_000);
+
+  it('sends a copy too large for the dead-letter topic without its value, and still checkpoints past it', async () => {
+    const topic = uniqueName('oversize-events');
+    const deadLetterTopic = uniqueName('oversize-rejected');
+    // The input topic takes the 1.5 MB message; the dead-letter topic keeps the broker's ~1 MB default.
+    await admin.createTopics({
+      topics: [
+        { topic, numPartitions: 1, replicationFactor: 1, configEntries: BIG_TOPIC },
+        { topic: deadLetterTopic, numPartitions: 1, replicationFactor: 1 },
+      ],
+      waitForLeaders: true,
+    });
+    const valid = makeScoredEvents({ n: 30, seed: 3, fromMs: Date.now() - 60_000, spanMs: 30_000, idPrefix: 'o', thresholds: THRESHOLDS });
+    const huge = Buffer.from(`{"id":"huge","pad":"${'x'.repeat(1_500_000)}"}`);
+    const small = Buffer.from('[1, 2]');
+    await producer.send({ topic, messages: [...valid.slice(0, 10).map((e) => ({ value: e.wire })), { value: huge }] });
+    await producer.send({ topic, messages: [{ value: small }, ...valid.slice(10).map((e) => ({ value: e.wire }))] });
+
+    const watcher = await startWatcher(topic, deadLetterTopic);
+    const url = watcher.url() as string;
+    await until('all 32 messages counted', async () => countedMessages(await scrape(url)) >= 32);
+    const copies = await readTopic(kafka, deadLetterTopic, 2);
+    expect(copies).toHaveLength(2);
+    const [bigCopy, smallCopy] = copies as [(typeof copies)[0], (typeof copies)[0]];
+    expect(bigCopy.value).toBeNull();
+    expect(bigCopy.headers['headroom-reason']).toBe('too_large');
+    expect(bigCopy.headers['headroom-value-dropped']).toMatch(new RegExp(`^${huge.length} bytes, more than ${deadLetterTopic} accepts`));
+    expect(smallCopy).toEqual({ value: small.toString('base64'), headers: expect.objectContaining({ 'headroom-reason': 'not_object', 'headroom-source-offset': '11' }) });
+    // Not held back by the refused copy: the checkpointed offset (committed after it) reaches the end.
+    await until('the offset past every message to be committed', async () => {
+      const offsets = await admin.fetchOffsets({ groupId: groupOf.get(watcher) as string, topics: [topic] });
+      return offsets[0]?.partitions[0]?.offset === '32';
+    }, 30_000);
+    expect(errorLines.some((l) => l.includes('dead-letter copy too large for its topic'))).toBe(true);
+  }, 120_000);
 });
