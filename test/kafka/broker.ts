@@ -188,8 +188,9 @@ export async function startLocalBroker(options: LocalBrokerOptions = {}): Promis
   const stop = (): Promise<void> =>
     (stopping ??= (async () => {
       stopped = true;
-      await starting?.catch(() => undefined);
+      // Ending the JVM first makes a start still in progress fail at once instead of waiting out its timeout.
       await stopProcess();
+      await starting?.catch(() => undefined);
       unregisterBroker(dataDir);
       rmSync(dataDir, { recursive: true, force: true });
     })());
