@@ -31,6 +31,14 @@ async function startDockerBroker(): Promise<BrokerHandle> {
   return { brokers, how: 'docker', description: `${DOCKER_IMAGE} through testcontainers`, stop: async () => void (await container.stop()) };
 }
 
+/** Why the local jar broker cannot be started here (java >= 17 and mvn are needed), or undefined if it can. */
+export function localBrokerMissing(): string | undefined {
+  const java = javaMajorVersion();
+  if (java === undefined || java < 17) return java === undefined ? 'java is not on PATH' : `java ${java} is older than 17`;
+  if (!commandExists('mvn')) return 'mvn is not on PATH';
+  return undefined;
+}
+
 export async function acquireBroker(log: (line: string) => void): Promise<BrokerHandle> {
   const fromEnv = (process.env.KAFKA_BROKERS ?? '').trim();
   if (fromEnv !== '') {
@@ -46,9 +54,8 @@ export async function acquireBroker(log: (line: string) => void): Promise<Broker
   } else {
     reasons.push('no Docker engine (no DOCKER_HOST, no /var/run/docker.sock)');
   }
-  const java = javaMajorVersion();
-  if (java === undefined || java < 17) reasons.push(java === undefined ? 'java is not on PATH' : `java ${java} is older than 17`);
-  else if (!commandExists('mvn')) reasons.push('mvn is not on PATH');
+  const missing = localBrokerMissing();
+  if (missing !== undefined) reasons.push(missing);
   else {
     const broker = await startLocalBroker({ log });
     return {

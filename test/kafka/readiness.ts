@@ -67,3 +67,34 @@ export async function waitUntilUsable(bootstrap: string, timeoutMs: number): Pro
   }
   throw new Error(`not usable after ${timeoutMs} ms: ${lastError instanceof Error ? lastError.message : String(lastError)}`);
 }
+
+/**
+ * The SCRAM listener takes its users from the metadata log, which a broker replays at start: until then
+ * a right password can be refused. One admin connection that authenticates and reads the cluster proves it.
+ */
+export async function waitUntilScramWorks(bootstrap: string, user: { username: string; password: string }, timeoutMs: number): Promise<void> {
+  const deadline = performance.now() + timeoutMs;
+  let lastError: unknown;
+  while (performance.now() < deadline) {
+    const kafka = new Kafka({
+      clientId: 'headroom-harness-scram-probe',
+      brokers: [bootstrap],
+      logLevel: logLevel.NOTHING,
+      sasl: { mechanism: 'scram-sha-512', username: user.username, password: user.password },
+      retry: { retries: 0 },
+      connectionTimeout: 2_000,
+    });
+    const admin = kafka.admin();
+    try {
+      await admin.connect();
+      await admin.describeCluster();
+      return;
+    } catch (error) {
+      lastError = error;
+      await sleep(500);
+    } finally {
+      await admin.disconnect().catch(() => undefined);
+    }
+  }
+  throw new Error(`SCRAM-SHA-512 login on ${bootstrap} did not work after ${timeoutMs} ms: ${lastError instanceof Error ? lastError.message : String(lastError)}`);
+}
