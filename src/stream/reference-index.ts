@@ -13,12 +13,10 @@
  *   (a rollout sends both for a while), and dropping it would silently end their comparisons. It is
  *   shown as `replaced` and goes at the next restart, which loads only what the files hold then.
  */
+import { ANY_MODEL } from '../config/index.js';
 import { HeadroomError, isHeadroomError } from '../errors.js';
 import type { LoadedReference, ReferenceSegment } from '../reference/index.js';
 import type { ReferenceFileState, ReferenceOrigin, ReferenceReport } from '../serve/index.js';
-
-/** `models[].name` that matches every model without an entry of its own (config ANY_MODEL). */
-const ANY_MODEL = '*';
 
 /** One configured reference file. */
 export interface ReferenceFileSlot {
