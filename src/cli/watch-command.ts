@@ -1,6 +1,7 @@
 /**
  * `headroom watch --config FILE`: the service. Reads the configuration (environment overrides applied),
  * starts the watcher and runs until SIGTERM or SIGINT, then shuts down in order within a bounded time.
+ * SIGHUP reloads the reference files and nothing else: the service keeps running.
  */
 import type { Command } from 'commander';
 import { pino } from 'pino';
@@ -26,6 +27,10 @@ State is kept per Kafka partition under checkpoint.dir and written with its next
 consumer resumes from there, so counts are exact across restarts. SIGTERM or SIGINT: stop fetching,
 checkpoint, commit, leave the group, exit 0 (1 when shutdown fails or takes over ${SHUTDOWN_TIMEOUT_MS / 1000} s).
 
+SIGHUP re-reads every reference file (as does a change to one, unless referenceReload.watchFiles is
+false). A file that cannot be read or is invalid keeps the reference loaded before; the error is logged
+and counted in headroom_reference_reload_errors_total. The configuration itself is read at start only.
+
 Example:
   $ HEADROOM_KAFKA_BROKERS=kafka-1:9092,kafka-2:9092 headroom watch --config examples/watch.yaml
 `;
@@ -34,6 +39,8 @@ export interface WatchIo {
   readonly env: Env;
   /** Resolves when the service should stop (a signal); passed in so tests need no real signals. */
   readonly stopSignal: () => Promise<string>;
+  /** Calls `reload` on each reload request (SIGHUP); returns the unsubscribe. Absent: no reload requests. */
+  readonly onReloadSignal?: (reload: () => void) => () => void;
 }
 
 export async function runWatch(configPath: string, io: WatchIo): Promise<void> {
@@ -58,7 +65,20 @@ export async function runWatch(configPath: string, io: WatchIo): Promise<void> {
       wakeOnFatal?.();
     },
   });
-  await watcher.start();
+  // Subscribed before start and kept to the end: unhandled, a SIGHUP would end the process (Node's default).
+  let started = false;
+  const unsubscribe = io.onReloadSignal?.(() => {
+    if (!started) {
+      logger.info('SIGHUP while starting: the references being loaded are the files as they are now');
+      return;
+    }
+    void watcher.reloadReferences('SIGHUP');
+  });
+  await watcher.start().catch((error: unknown) => {
+    unsubscribe?.();
+    throw error;
+  });
+  started = true;
   const why = await Promise.race([io.stopSignal(), fatalStop]);
   logger.info({ why }, 'shutting down');
   let timer: NodeJS.Timeout | undefined;
@@ -72,6 +92,7 @@ export async function runWatch(configPath: string, io: WatchIo): Promise<void> {
     await Promise.race([watcher.close(), timeout]);
   } finally {
     clearTimeout(timer);
+    unsubscribe?.();
   }
   if (fatal !== undefined) throw fatal;
 }
@@ -88,6 +109,12 @@ function signals(): Promise<string> {
   });
 }
 
+function hangups(reload: () => void): () => void {
+  const on = (): void => reload();
+  process.on('SIGHUP', on);
+  return () => void process.off('SIGHUP', on);
+}
+
 export function registerWatchCommand(program: Command): void {
   program
     .command('watch')
@@ -101,7 +128,7 @@ export function registerWatchCommand(program: Command): void {
     .addHelpText('after', HELP)
     .action(async (raw: { config: string }) => {
       try {
-        await runWatch(raw.config, { env: process.env, stopSignal: signals });
+        await runWatch(raw.config, { env: process.env, stopSignal: signals, onReloadSignal: hangups });
       } finally {
         // Anything a failed step left open (a socket, a timer) must not keep the process past shutdown.
         setTimeout(() => process.exit(process.exitCode ?? 1), 2_000).unref();

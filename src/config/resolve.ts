@@ -189,6 +189,7 @@ export function resolveParsed(
     latenessMs: parsed.lateness,
     maxFutureMs: parsed.maxFuture,
     checkpoint: { dir: c.dir, intervalMs: c.interval },
+    referenceReload: { watchFiles: parsed.referenceReload.watchFiles, debounceMs: parsed.referenceReload.debounce },
     http: parsed.http,
     decode: resolveDecodeLimits(parsed.decode),
   };

@@ -91,6 +91,12 @@ export const configSchema = section({
     dir: name.default('./state'),
     interval: duration.prefault('5s'),
   }).prefault({}),
+  // Reference files are read at start and again on SIGHUP; this adds a reload when a file changes on disk.
+  referenceReload: section({
+    watchFiles: z.boolean().default(true),
+    // Editors and deploys write a file in several steps: wait for them to finish before reading it.
+    debounce: duration.prefault('500ms'),
+  }).prefault({}),
   http: section({
     host: name.default('127.0.0.1'),
     port: wholeAtLeast(0).max(65_535, { error: 'must be at most 65535' }).default(DEFAULT_HTTP_PORT),

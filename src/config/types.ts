@@ -79,6 +79,8 @@ export interface HeadroomConfig {
   readonly latenessMs: number;
   readonly maxFutureMs: number;
   readonly checkpoint: { readonly dir: string; readonly intervalMs: number };
+  /** Reload the reference files when they change on disk (SIGHUP reloads them either way), after debounceMs of quiet. */
+  readonly referenceReload: { readonly watchFiles: boolean; readonly debounceMs: number };
   readonly http: { readonly host: string; readonly port: number };
   readonly decode: DecodeLimits;
 }

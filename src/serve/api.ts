@@ -24,8 +24,15 @@ function badParameter(parameter: string, detail: string): HeadroomError {
   return new HeadroomError('HR_ERR_API_BAD_PARAMETER', `${parameter} ${detail}`, { context: { parameter } });
 }
 
-function referenceState(s: SeriesSnapshot): 'loaded' | 'none' {
-  return s.reference === undefined ? 'none' : 'loaded';
+/** Where a loaded reference came from; the same fields in the list and in a series' own answer. */
+function originJson(s: SeriesSnapshot) {
+  const o = s.referenceOrigin;
+  if (o === undefined) return {};
+  return { version: o.version, createdAt: o.createdAt, loadedAt: new Date(o.loadedAtMs).toISOString(), file: o.file };
+}
+
+function referenceState(s: SeriesSnapshot) {
+  return s.reference === undefined ? { state: 'none' as const } : { state: 'loaded' as const, ...originJson(s) };
 }
 
 function findSeries(source: WatchedSeriesSource, req: Request): SeriesSnapshot {
@@ -67,7 +74,7 @@ function referenceJson(s: SeriesSnapshot) {
   const r = s.reference;
   if (r === undefined) return { state: 'none' as const };
   // `segment` may be `all` for a live `line=4`: the version-wide reference stands in for a segment it lacks.
-  return { state: 'loaded' as const, segment: r.name, n: r.n, lowMargin: r.lowMargin, decileEdges: r.decileEdges };
+  return { state: 'loaded' as const, ...originJson(s), segment: r.name, n: r.n, lowMargin: r.lowMargin, decileEdges: r.decileEdges };
 }
 
 /** [x, F(x)] on an even grid over [0, 1], where confidence margins live; an atom shows as a step between two points. */

@@ -4,7 +4,18 @@ export type { AppDependencies } from './app.js';
 export { DEFAULT_CDF_POINTS, MAX_CDF_POINTS, MIN_CDF_POINTS } from './api.js';
 export { createMetrics } from './metrics.js';
 export type { HeadroomMetrics, MetricsOptions } from './metrics.js';
-export type { PartitionInfo, Readiness, SeriesKey, SeriesSnapshot, ViewSpec, WatchedSeriesSource } from './model.js';
+export type {
+  PartitionInfo,
+  Readiness,
+  ReferenceFileReport,
+  ReferenceFileState,
+  ReferenceOrigin,
+  ReferenceReport,
+  SeriesKey,
+  SeriesSnapshot,
+  ViewSpec,
+  WatchedSeriesSource,
+} from './model.js';
 export { METRIC_QUANTILE_LEVELS, decimalLabel } from './options.js';
 export { viewReports } from './report.js';
 export type { Drift, ViewReport } from './report.js';

@@ -115,6 +115,21 @@ export function createMetrics(options: MetricsOptions): HeadroomMetrics {
     }
     for (const { model, version, value } of loaded.values()) emit({ model, version }, value);
   });
+  gauge(
+    'headroom_reference_loaded_timestamp_seconds',
+    'Unix time the model version\'s reference was read, at start or by the reload that found it changed.',
+    ['model', 'version'],
+    (emit) => {
+      for (const r of source.references?.().loaded ?? []) emit({ model: r.model, version: r.version }, r.loadedAtMs / 1000);
+    },
+  );
+  // Keyed by models[].name, the one name a file that cannot be read still has.
+  counter('headroom_reference_reload_errors_total', 'Reads of a configured reference file that failed; the previous reference stayed in force.', ['model'], (emit) => {
+    for (const f of source.references?.().files ?? []) emit({ model: f.model }, f.reloadErrors);
+  });
+  gauge('headroom_reference_reload_failing', '1 while the latest read of the model\'s reference file failed (the previous reference is in force), else 0.', ['model'], (emit) => {
+    for (const f of source.references?.().files ?? []) emit({ model: f.model }, f.failing ? 1 : 0);
+  });
   gauge('headroom_window_events', 'Events in the window (the denominator of the window ratios).', WINDOWED, (emit) => {
     for (const f of current()) for (const v of f.views) emit({ ...f.labels, window: v.window }, v.summary.count);
   });

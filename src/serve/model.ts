@@ -28,6 +28,41 @@ export interface SeriesSnapshot extends SeriesKey {
   readonly windows: MarginWindows;
   /** The reference this series is compared with (its own segment or the version's `all`); undefined when none is loaded. */
   readonly reference: ReferenceSegment | undefined;
+  /** Where `reference` came from and when; absent when none is loaded (or the source does not say). */
+  readonly referenceOrigin?: ReferenceOrigin;
+}
+
+/**
+ * How a loaded reference stands against its file: `current` is what the file held when last read;
+ * `reload-failed` is the last good copy, kept because the file's latest read failed; `replaced` is kept
+ * for the series of its own version after the file moved on to another version.
+ */
+export type ReferenceFileState = 'current' | 'reload-failed' | 'replaced';
+
+export interface ReferenceOrigin {
+  readonly model: string;
+  readonly version: string;
+  /** The file's `createdAt`, as written. */
+  readonly createdAt: string;
+  /** Wall time (ms) this copy was read, by start or by a reload that found it changed. */
+  readonly loadedAtMs: number;
+  readonly file: ReferenceFileState;
+}
+
+/** One configured reference file: the metrics of its reloads. */
+export interface ReferenceFileReport {
+  /** The `models[].name` the file is configured for (`*` included). */
+  readonly model: string;
+  readonly path: string;
+  /** Reads that failed since start (a reload that kept the previous reference). */
+  readonly reloadErrors: number;
+  /** True while the latest read failed. */
+  readonly failing: boolean;
+}
+
+export interface ReferenceReport {
+  readonly loaded: readonly ReferenceOrigin[];
+  readonly files: readonly ReferenceFileReport[];
 }
 
 export interface Readiness {
@@ -52,6 +87,8 @@ export interface WatchedSeriesSource {
   rejections(): ReadonlyMap<string, number>;
   readiness(): Readiness;
   partitions(): readonly PartitionInfo[];
+  /** Loaded references and their files; a source without reference files may leave it out. */
+  references?(): ReferenceReport;
 }
 
 /** A named view of the windows, e.g. `{ name: '5m', durationMs: 300_000 }`; the name is the `window` label. */

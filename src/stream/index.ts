@@ -1,6 +1,10 @@
 /** The Kafka edge of `headroom watch`: the consumer loop over per-partition states, and the read view src/serve takes. */
 export { createWatcher } from './watcher.js';
 export type { Watcher, WatcherDependencies } from './watcher.js';
-export { createSeriesSource, ReferenceIndex } from './source.js';
+export { createSeriesSource } from './source.js';
+export { ReferenceIndex } from './reference-index.js';
+export type { ReferenceChange, ReferenceFailure, ReferenceFileSlot, ReferenceRead } from './reference-index.js';
+export { createReferenceFiles } from './reference-files.js';
+export type { ReferenceFiles, ReloadReport } from './reference-files.js';
 export type { SourceView } from './source.js';
 export { kafkaLogCreator } from './kafka-log.js';

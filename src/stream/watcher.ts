@@ -31,10 +31,11 @@ import { createApp, createMetrics } from '../serve/index.js';
 import type { PartitionInfo, Readiness, WatchedSeriesSource } from '../serve/index.js';
 import { PartitionState } from '../state/index.js';
 import type { CheckpointStore, PartitionStateJson } from '../state/index.js';
-import { loadReferenceFile } from '../sources/index.js';
 import { kafkaLogCreator } from './kafka-log.js';
 import { DeadLetters } from './dead-letters.js';
-import { createSeriesSource, ReferenceIndex } from './source.js';
+import { createReferenceFiles } from './reference-files.js';
+import type { ReloadReport } from './reference-files.js';
+import { createSeriesSource } from './source.js';
 
 export interface WatcherDependencies {
   readonly config: HeadroomConfig;
@@ -59,6 +60,11 @@ export interface Watcher {
   start(): Promise<void>;
   /** Stop fetching, checkpoint, commit, leave the group, close HTTP and the store. Idempotent; every step runs. */
   close(): Promise<void>;
+  /**
+   * Reads every configured reference file again and swaps them in at once; a file that fails keeps its
+   * previous reference, is logged and counted. Never rejects. See reference-index.ts for the rules.
+   */
+  reloadReferences(why?: string): Promise<ReloadReport>;
   readonly source: WatchedSeriesSource;
   /** `http://host:port` once listening; undefined before. */
   url(): string | undefined;
@@ -85,7 +91,7 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
   const topics = new Set(config.kafka.topics);
   const stateOptions = (topic: string, partition: number) => ({ topic, partition, models: config.models });
 
-  const references = new ReferenceIndex();
+  const references = createReferenceFiles({ models: config.models, nowMs, log });
   /** Last saved (or loaded) state of each partition of the group: what an assignment restores from. */
   const saved = new Map<string, PartitionStateJson>();
   const owned = new Map<string, PartitionState>();
@@ -139,23 +145,8 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
       })
       .sort((a, b) => (a.topic < b.topic ? -1 : a.topic > b.topic ? 1 : a.partition - b.partition));
 
-  const source = createSeriesSource({ states: () => [...owned.values()], readiness, partitions }, references);
+  const source = createSeriesSource({ states: () => [...owned.values()], readiness, partitions }, references.current);
   createMetrics({ registry: deps.registry, source, views: config.windows, nowMs });
-
-  async function loadReferences(): Promise<void> {
-    for (const model of config.models) {
-      if (model.reference === null) {
-        log.info({ model: model.name }, 'no reference configured: live metrics only, comparisons show "no reference"');
-        continue;
-      }
-      const reference = await loadReferenceFile(model.reference);
-      if (model.name !== '*' && reference.model !== model.name) {
-        log.warn({ model: model.name, file: model.reference, fileModel: reference.model }, 'reference file is of another model; it applies to the model it names');
-      }
-      references.add(reference);
-      log.info({ model: reference.model, version: reference.version, n: reference.n, file: model.reference }, 'reference loaded');
-    }
-  }
 
   async function loadCheckpoints(): Promise<void> {
     for (const { topic, partition } of await store.list(group)) {
@@ -354,7 +345,8 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
   async function start(): Promise<void> {
     if (closing !== undefined) throw new HeadroomError('HR_ERR_WATCH_START', 'close() was called; make a new watcher');
     try {
-      await loadReferences().catch((e: unknown) => Promise.reject(startError('loading references', e)));
+      await references.load().catch((e: unknown) => Promise.reject(startError('loading references', e)));
+      if (config.referenceReload.watchFiles) references.watchFiles(config.referenceReload.debounceMs);
       await loadCheckpoints().catch((e: unknown) => Promise.reject(startError('loading checkpoints', e)));
       await listen().catch((e: unknown) => Promise.reject(startError(`listening on ${config.http.host}:${config.http.port}`, e)));
       const options: KafkajsConfig = { ...kafkaClientOptions(config, deps.tls ?? {}), logCreator: kafkaLogCreator(deps.logger.child({ component: 'kafkajs' })) };
@@ -426,6 +418,7 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
         }
       };
       for (const timer of timers) clearInterval(timer);
+      references.close();
       const c = consumer;
       await step('stop fetching', () => {
         if (c !== undefined && joined) c.pause([...topics].map((topic) => ({ topic })));
@@ -455,5 +448,5 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
     });
   }
 
-  return { start, close, source, url: () => address };
+  return { start, close, reloadReferences: (why) => references.reload(why), source, url: () => address };
 }

@@ -44,6 +44,7 @@ describe('loadConfig', () => {
     expect([config.latenessMs, config.maxFutureMs]).toEqual([defaults.latenessMs, defaults.maxFutureMs]);
     expect(config.checkpoint.intervalMs).toBe(defaults.checkpoint.intervalMs);
     expect(config.http).toEqual(defaults.http);
+    expect(config.referenceReload).toEqual(defaults.referenceReload);
     expect(config.decode).toEqual(defaults.decode);
     expect(config.kafka.clientId).toBe(defaults.kafka.clientId);
     expect(config.kafka.groupId).toBe(defaults.kafka.groupId);

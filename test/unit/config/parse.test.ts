@@ -30,6 +30,7 @@ maxFuture: 1m
 checkpoint: { dir: /var/lib/headroom, interval: 10s }
 http: { host: 0.0.0.0, port: 9500 }
 decode: { maxBytes: 65536, maxSegmentKeys: 2 }
+referenceReload: { watchFiles: false, debounce: 2s }
 `;
 
 describe('parseConfig: valid files', () => {
@@ -62,6 +63,7 @@ describe('parseConfig: valid files', () => {
     expect(config.maxFutureMs).toBe(300_000);
     expect(config.checkpoint).toEqual({ dir: './state', intervalMs: 5_000 });
     expect(config.http).toEqual({ host: '127.0.0.1', port: 9464 });
+    expect(config.referenceReload).toEqual({ watchFiles: true, debounceMs: 500 });
     expect(config.decode).toEqual(DEFAULT_DECODE_LIMITS);
     expect(config.source).toBe('headroom.yaml');
   });
@@ -89,6 +91,7 @@ describe('parseConfig: valid files', () => {
     expect(config.checkpoint).toEqual({ dir: '/var/lib/headroom', intervalMs: 10_000 });
     expect(config.http).toEqual({ host: '0.0.0.0', port: 9500 });
     expect(config.decode).toEqual({ ...DEFAULT_DECODE_LIMITS, maxBytes: 65_536, maxSegmentKeys: 2 });
+    expect(config.referenceReload).toEqual({ watchFiles: false, debounceMs: 2_000 });
   });
 
   it('accepts an already parsed object as well as text', () => {
@@ -137,6 +140,13 @@ describe('parseConfig: each error names the file and the field, with the fix', (
 
   it('a wrong type', () => {
     expect(problemsOf(`${MINIMAL}http: { port: "ninety" }\n`)).toEqual([expect.stringMatching(/^headroom\.yaml: http\.port: must be a number, got the string "ninety"/)]);
+  });
+
+  it('reference reload settings of the wrong type', () => {
+    expect(problemsOf(`${MINIMAL}referenceReload: { watchFiles: "no", debounce: soon }\n`)).toEqual([
+      'headroom.yaml: referenceReload.watchFiles: must be true or false, got the string "no" (line 4)',
+      expect.stringMatching(/^headroom\.yaml: referenceReload\.debounce: must be a duration with a unit.*got "soon"/),
+    ]);
   });
 
   it('a port out of range', () => {

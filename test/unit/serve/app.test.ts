@@ -9,7 +9,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { compareToReference, wilsonInterval } from '../../../src/compare/index.js';
 import { createApp, createMetrics } from '../../../src/serve/index.js';
 import { parseExposition, value } from './exposition.js';
-import { MINUTE, MODEL, THRESHOLDS, VERSION, VIEWS, lowShare, world } from './fixture.js';
+import { MINUTE, MODEL, ORIGIN, THRESHOLDS, VERSION, VIEWS, lowShare, world } from './fixture.js';
 
 const w = world();
 const registry = new Registry();
@@ -79,14 +79,15 @@ describe('probes and /metrics over a real socket', () => {
 });
 
 describe('GET /api/series', () => {
-  it('lists every series, sorted, with its event count and whether a reference is loaded', async () => {
+  it('lists every series, sorted, with its event count and its reference: loaded (which, since when) or none', async () => {
     const { res, body } = await getJson('/api/series');
     expect(res.status).toBe(200);
     expectJsonHeaders(res);
+    const loaded = { state: 'loaded', version: VERSION, createdAt: ORIGIN.createdAt, loadedAt: new Date(ORIGIN.loadedAtMs).toISOString(), file: 'current' };
     expect(body.series).toEqual([
-      { model: 'doc-router', version: '7', segment: 'all', events: 120, reference: 'none' },
-      { model: MODEL, version: VERSION, segment: 'all', events: 705, reference: 'loaded' },
-      { model: MODEL, version: VERSION, segment: 'line=9', events: 50, reference: 'loaded' },
+      { model: 'doc-router', version: '7', segment: 'all', events: 120, reference: { state: 'none' } },
+      { model: MODEL, version: VERSION, segment: 'all', events: 705, reference: loaded },
+      { model: MODEL, version: VERSION, segment: 'line=9', events: 50, reference: loaded },
     ]);
   });
 });
@@ -106,7 +107,7 @@ describe('GET /api/series/:model/:version/:segment', () => {
     const { res, body } = await getJson(seriesPath(MODEL, VERSION, 'all'));
     expect(res.status).toBe(200);
     expectJsonHeaders(res);
-    expect(body.reference).toMatchObject({ state: 'loaded', segment: 'all', n: 3000 });
+    expect(body.reference).toMatchObject({ state: 'loaded', segment: 'all', n: 3000, version: VERSION, createdAt: ORIGIN.createdAt, file: 'current' });
     const views = body.views as ViewBody[];
     expect(views.map((v) => v.window)).toEqual(['5m', '1h', '24h']);
     const five = views[0] as ViewBody;

@@ -8,7 +8,7 @@ import type { ScoredEvent } from '../../../src/events/index.js';
 import { buildReference, formatReference, parseReferenceText } from '../../../src/reference/index.js';
 import type { LoadedReference } from '../../../src/reference/index.js';
 import { MarginWindows, STANDARD_VIEWS } from '../../../src/sketch/index.js';
-import type { PartitionInfo, Readiness, SeriesSnapshot, WatchedSeriesSource } from '../../../src/serve/index.js';
+import type { PartitionInfo, Readiness, ReferenceOrigin, ReferenceReport, SeriesSnapshot, WatchedSeriesSource } from '../../../src/serve/index.js';
 import { rng } from '../events/prng.js';
 
 export const MODEL = 'parcel-damage';
@@ -53,6 +53,9 @@ function marginEvent(value: number, i: number, line: string): ScoredEvent {
 
 export const REFERENCE_MARGINS = margins(3000, 11, 0.7);
 
+/** Where the fixture's reference came from, as the watcher's source reports it. */
+export const ORIGIN: ReferenceOrigin = { model: MODEL, version: VERSION, createdAt: '2026-11-19T00:00:00.000Z', loadedAtMs: T0 - 30 * MINUTE, file: 'current' };
+
 export function reference(): LoadedReference {
   const events = REFERENCE_MARGINS.map((m, i) => marginEvent(m, i, i % 3 === 0 ? '1' : '2'));
   const file = buildReference(events, { createdAt: '2026-11-19T00:00:00.000Z', source: 'serve test', thresholds: THRESHOLDS, segmentKeys: ['line'] });
@@ -85,6 +88,7 @@ export interface FakeSource extends WatchedSeriesSource {
   rejected: Map<string, number>;
   ready: Readiness;
   partitionList: PartitionInfo[];
+  referenceReport: ReferenceReport;
   seriesCalls: number;
 }
 
@@ -100,6 +104,13 @@ export function fakeSource(snapshots: SeriesSnapshot[]): FakeSource {
       { topic: 'scores', partition: 0, lagMessages: 12, lastCheckpointMs: T0 + 60 * MINUTE },
       { topic: 'scores', partition: 1, lagMessages: null, lastCheckpointMs: null },
     ],
+    referenceReport: {
+      loaded: [ORIGIN],
+      files: [
+        { model: MODEL, path: 'references/parcel.json', reloadErrors: 0, failing: false },
+        { model: 'cutter-jam', path: 'references/cutter.json', reloadErrors: 3, failing: true },
+      ],
+    },
     seriesCalls: 0,
     series() {
       source.seriesCalls += 1;
@@ -108,6 +119,7 @@ export function fakeSource(snapshots: SeriesSnapshot[]): FakeSource {
     rejections: () => source.rejected,
     readiness: () => source.ready,
     partitions: () => source.partitionList,
+    references: () => source.referenceReport,
   };
   return source;
 }
@@ -129,9 +141,9 @@ export function world() {
   const quiet = live(spread(margins(50, 24, 1), T0, 1000));
   quiet.windows.advance(T0 + 61 * MINUTE);
   const snapshots: SeriesSnapshot[] = [
-    { model: MODEL, version: VERSION, segment: 'all', events: 705, windows: main.windows, reference: ref.segmentFor('all') },
+    { model: MODEL, version: VERSION, segment: 'all', events: 705, windows: main.windows, reference: ref.segmentFor('all'), referenceOrigin: ORIGIN },
     { model: 'doc-router', version: '7', segment: 'all', events: 120, windows: plain.windows, reference: undefined },
-    { model: MODEL, version: VERSION, segment: 'line=9', events: 50, windows: quiet.windows, reference: ref.segmentFor('line=9') },
+    { model: MODEL, version: VERSION, segment: 'line=9', events: 50, windows: quiet.windows, reference: ref.segmentFor('line=9'), referenceOrigin: ORIGIN },
   ];
   return { ref, older, recent, main, plain, quiet, source: fakeSource(snapshots), nowMs: T0 + 62 * MINUTE };
 }

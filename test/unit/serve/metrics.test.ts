@@ -12,7 +12,7 @@ import { EmpiricalDistribution } from '../../../src/sketch/empirical.js';
 import { createMetrics, decimalLabel, METRIC_QUANTILE_LEVELS } from '../../../src/serve/index.js';
 import type { WatchedSeriesSource } from '../../../src/serve/index.js';
 import { find, parseExposition, value } from './exposition.js';
-import { MINUTE, MODEL, REFERENCE_MARGINS, T0, THRESHOLDS, VERSION, VIEWS, lowShare, world } from './fixture.js';
+import { MINUTE, MODEL, ORIGIN, REFERENCE_MARGINS, T0, THRESHOLDS, VERSION, VIEWS, lowShare, world } from './fixture.js';
 
 const MAIN = { model: MODEL, version: VERSION, segment: 'all' };
 const PLAIN = { model: 'doc-router', version: '7', segment: 'all' };
@@ -86,6 +86,23 @@ describe('createMetrics', () => {
     expect(value(samples, 'headroom_reference_loaded', { model: MODEL, version: VERSION })).toBe(1);
     expect(value(samples, 'headroom_series', { model: MODEL })).toBe(2);
     expect(value(samples, 'headroom_series', { model: 'doc-router' })).toBe(1);
+  });
+
+  it('exports when each reference was loaded, and per configured file its failed reloads and whether the latest failed', async () => {
+    const w = world();
+    const { samples, types } = await scrape(w.source, w.nowMs);
+    expect(types.get('headroom_reference_reload_errors_total')).toBe('counter');
+    expect(value(samples, 'headroom_reference_loaded_timestamp_seconds', { model: MODEL, version: VERSION })).toBe(ORIGIN.loadedAtMs / 1000);
+    expect(find(samples, 'headroom_reference_loaded_timestamp_seconds')).toHaveLength(1);
+    expect(value(samples, 'headroom_reference_reload_errors_total', { model: MODEL })).toBe(0);
+    expect(value(samples, 'headroom_reference_reload_errors_total', { model: 'cutter-jam' })).toBe(3);
+    expect(value(samples, 'headroom_reference_reload_failing', { model: MODEL })).toBe(0);
+    expect(value(samples, 'headroom_reference_reload_failing', { model: 'cutter-jam' })).toBe(1);
+    // A source that reports no reference files gets the families without samples, not an error.
+    const bare: WatchedSeriesSource = { series: () => w.source.series(), rejections: () => new Map(), readiness: () => w.source.readiness(), partitions: () => [] };
+    const none = await scrape(bare, w.nowMs);
+    expect(find(none.samples, 'headroom_reference_reload_errors_total')).toEqual([]);
+    expect(value(none.samples, 'headroom_reference_loaded', { model: MODEL, version: VERSION })).toBe(1);
   });
 
   it('exports no ratio, quantile or drift sample for an empty window, but does for the windows that hold events', async () => {
@@ -201,7 +218,7 @@ describe.skipIf(!havePromtool && !mustRun)('promtool check metrics', () => {
     const { text, samples, types } = await scrape(w.source, w.nowMs);
     // Every family must be there with samples, or a clean bill would prove little.
     for (const name of types.keys()) expect(find(samples, name).length, name).toBeGreaterThan(0);
-    expect(types.size).toBe(13);
+    expect(types.size).toBe(16);
     const result = checkMetrics(text);
     expect(result.stdout + result.stderr).toBe('');
     expect(result.status).toBe(0);
