@@ -65,7 +65,9 @@ export async function runWatch(configPath: string, io: WatchIo): Promise<void> {
       wakeOnFatal?.();
     },
   });
-  // Subscribed before start and kept to the end: unhandled, a SIGHUP would end the process (Node's default).
+  // Subscribed before start and kept to the end: unhandled, a SIGHUP would end the process (Node's default),
+  // and a SIGTERM during start would kill it without a checkpoint; now it shuts down as soon as start ends.
+  const stopRequested = io.stopSignal();
   let started = false;
   const unsubscribe = io.onReloadSignal?.(() => {
     if (!started) {
@@ -79,7 +81,7 @@ export async function runWatch(configPath: string, io: WatchIo): Promise<void> {
     throw error;
   });
   started = true;
-  const why = await Promise.race([io.stopSignal(), fatalStop]);
+  const why = await Promise.race([stopRequested, fatalStop]);
   logger.info({ why }, 'shutting down');
   let timer: NodeJS.Timeout | undefined;
   const timeout = new Promise<never>((_, reject) => {
