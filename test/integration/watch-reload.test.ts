@@ -6,8 +6,6 @@
  * reference in force and is counted. Last, the CLI as a child process: SIGHUP reloads, the service
  * keeps running, and SIGTERM still ends it cleanly.
  */
-import { spawn } from 'node:child_process';
-import type { ChildProcessWithoutNullStreams } from 'node:child_process';
 import { mkdirSync, mkdtempSync, renameSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -21,6 +19,8 @@ import { buildReference, formatReference } from '../../src/reference/index.js';
 import { FileCheckpointStore } from '../../src/state/index.js';
 import { createWatcher } from '../../src/stream/index.js';
 import type { Watcher } from '../../src/stream/index.js';
+import { spawnHeadroom } from '../harness/cli.js';
+import type { RunningCli } from '../harness/cli.js';
 import { uniqueName } from '../harness/names.js';
 import { find, parseExposition, value } from '../unit/serve/exposition.js';
 import { rng } from '../unit/events/prng.js';
@@ -121,7 +121,7 @@ describe('headroom watch reloads its references', () => {
   const refB = scoredEvents(500, 12, 0.3);
   const refC = scoredEvents(500, 13, 0.6);
   const watchers: Watcher[] = [];
-  let child: ChildProcessWithoutNullStreams | undefined;
+  let child: RunningCli | undefined;
 
   beforeAll(async () => {
     const admin = kafka.admin();
@@ -138,7 +138,7 @@ describe('headroom watch reloads its references', () => {
   });
 
   afterAll(async () => {
-    child?.kill('SIGKILL');
+    child?.child.kill('SIGKILL');
     for (const w of watchers) await w.close().catch(() => undefined);
     rmSync(dir, { recursive: true, force: true });
   });
@@ -239,31 +239,11 @@ describe('headroom watch reloads its references', () => {
         '',
       ].join('\n'),
     );
-    const env: NodeJS.ProcessEnv = { ...process.env, LOG_LEVEL: 'info' };
-    delete env.HEADROOM_KAFKA_BROKERS;
-    delete env.HEADROOM_HTTP_PORT;
-    const proc = spawn(process.execPath, ['--import', 'tsx', 'src/cli/main.ts', 'watch', '--config', configPath], { cwd: process.cwd(), env });
-    child = proc;
-    const lines: Record<string, unknown>[] = [];
-    let stderr = '';
-    let pending = '';
-    proc.stdout.setEncoding('utf8').on('data', (chunk: string) => {
-      pending += chunk;
-      const parts = pending.split('\n');
-      pending = parts.pop() ?? '';
-      for (const p of parts) {
-        try {
-          lines.push(JSON.parse(p) as Record<string, unknown>);
-        } catch {
-          stderr += `(stdout, not JSON) ${p}\n`;
-        }
-      }
-    });
-    proc.stderr.setEncoding('utf8').on('data', (chunk: string) => (stderr += chunk));
-    const exited = new Promise<number | null>((resolve) => proc.once('exit', (code) => resolve(code)));
-
-    await until(`the CLI to listen (stderr: ${stderr})`, () => lines.some((l) => typeof l.url === 'string'), 90_000);
-    const url = lines.find((l) => typeof l.url === 'string')?.url as string;
+    const cli = spawnHeadroom(['watch', '--config', configPath], { HEADROOM_KAFKA_BROKERS: undefined, HEADROOM_HTTP_PORT: undefined });
+    child = cli;
+    const lines = (): Record<string, unknown>[] => cli.logLines();
+    await until('the CLI to listen', () => lines().some((l) => typeof l.url === 'string'), 90_000);
+    const url = lines().find((l) => typeof l.url === 'string')?.url as string;
     await until('the CLI to count the live events', async () => (await eventsCounted(url)) === LIVE, 90_000);
     for (const t of THRESHOLDS) expect(await referenceShare(url, t)).toBeCloseTo(shareBelow(refA, t), 12);
 
@@ -271,16 +251,16 @@ describe('headroom watch reloads its references', () => {
     await sleep(1_000);
     // Not watched: still the old reference until the signal.
     expect(await referenceShare(url, 0.1)).toBeCloseTo(shareBelow(refA, 0.1), 12);
-    proc.kill('SIGHUP');
-    await until('the reload after SIGHUP', () => lines.some((l) => l.msg === 'references reloaded'), 30_000);
-    expect(lines.find((l) => l.msg === 'references reloaded')).toMatchObject({ why: 'SIGHUP', changes: [`${MODEL} ${VERSION} updated (created 2026-11-02T00:00:00.000Z → 2026-11-09T00:00:00.000Z)`] });
+    cli.child.kill('SIGHUP');
+    await until('the reload after SIGHUP', () => lines().some((l) => l.msg === 'references reloaded'), 30_000);
+    expect(lines().find((l) => l.msg === 'references reloaded')).toMatchObject({ why: 'SIGHUP', changes: [`${MODEL} ${VERSION} updated (created 2026-11-02T00:00:00.000Z → 2026-11-09T00:00:00.000Z)`] });
     for (const t of THRESHOLDS) expect(await referenceShare(url, t)).toBeCloseTo(shareBelow(refB, t), 12);
-    expect(proc.exitCode).toBeNull();
+    expect(cli.child.exitCode).toBeNull();
     const health = await fetch(`${url}/healthz`);
     expect(health.status).toBe(200);
 
-    proc.kill('SIGTERM');
-    expect(await exited).toBe(0);
+    cli.child.kill('SIGTERM');
+    expect(await cli.exited, cli.output()).toBe(0);
     child = undefined;
   }, 180_000);
 });

@@ -5,7 +5,6 @@
  * promptly, saying authentication failed, and the CLI exits non-zero with one error line. No log line,
  * at the most verbose level, ever holds either password.
  */
-import { spawn } from 'node:child_process';
 import { randomBytes } from 'node:crypto';
 import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
@@ -20,6 +19,7 @@ import { exitCodeOf, HeadroomError } from '../../src/errors.js';
 import { FileCheckpointStore } from '../../src/state/index.js';
 import { createWatcher } from '../../src/stream/index.js';
 import type { Watcher } from '../../src/stream/index.js';
+import { spawnHeadroom } from '../harness/cli.js';
 import { dedicatedBrokerUnavailable } from '../harness/dedicated-broker.js';
 import { uniqueName } from '../harness/names.js';
 import { startLocalBroker } from '../kafka/broker.js';
@@ -35,7 +35,6 @@ const PASSWORD = `right-${randomBytes(12).toString('hex')}`;
 const WRONG = `wrong-${randomBytes(12).toString('hex')}`;
 /** How long a refused start may take at most: far beyond one attempt, far below a retry loop's minutes. */
 const REFUSAL_BOUND_MS = 60_000;
-const MAIN = join(import.meta.dirname, '../../src/cli/main.ts');
 
 const sleep = (ms: number): Promise<void> => new Promise((resolve) => setTimeout(resolve, ms));
 
@@ -195,19 +194,14 @@ describe.skipIf(dedicatedBrokerUnavailable('watch-sasl.test.ts') !== undefined)(
   it('the CLI with a wrong password exits non-zero with one error line and never prints the password', async () => {
     await load(WRONG, uniqueName('sasl-cli-group'));
     const before = failedLogins(broker as LocalBroker);
-    const child = spawn(process.execPath, ['--import', 'tsx', MAIN, 'watch', '--config', configPath], {
-      env: { ...process.env, HEADROOM_KAFKA_SASL_PASSWORD: WRONG, LOG_LEVEL: 'trace' },
-      stdio: ['ignore', 'pipe', 'pipe'],
-    });
-    let stdout = '';
-    let stderr = '';
-    child.stdout.on('data', (chunk: Buffer) => (stdout += chunk.toString()));
-    child.stderr.on('data', (chunk: Buffer) => (stderr += chunk.toString()));
+    const cli = spawnHeadroom(['watch', '--config', configPath], { HEADROOM_KAFKA_SASL_PASSWORD: WRONG, LOG_LEVEL: 'trace' });
     const started = performance.now();
-    const code = await new Promise<number | null>((resolve) => {
-      const timer = setTimeout(() => (child.kill('SIGKILL'), resolve(null)), REFUSAL_BOUND_MS);
-      child.once('exit', (c) => (clearTimeout(timer), resolve(c)));
+    const code = await new Promise<number | string | null>((resolve) => {
+      const timer = setTimeout(() => (cli.child.kill('SIGKILL'), resolve(null)), REFUSAL_BOUND_MS);
+      void cli.exited.then((c) => (clearTimeout(timer), resolve(c)));
     });
+    const stdout = cli.stdout();
+    const stderr = cli.stderr();
     process.stderr.write(`[watch-sasl.test] CLI exited ${code} after ${((performance.now() - started) / 1000).toFixed(1)} s; stderr: ${stderr.trim()}\n`);
     expect(code).toBe(exitCodeOf(new HeadroomError('HR_ERR_WATCH_START', '')));
     expect(code).not.toBe(0);
