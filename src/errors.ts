@@ -26,6 +26,8 @@ export const ERROR_CODES = {
   HR_ERR_SKETCH_STATE_INVALID: { message: 'serialised sketch state is invalid', retriable: false, httpStatus: 500, exitCode: 65 },
   HR_ERR_SKETCH_ARGUMENT: { message: 'sketch argument is out of range', retriable: false, httpStatus: 400, exitCode: 70 },
   HR_ERR_COMPARE_ARGUMENT: { message: 'comparison argument is out of range', retriable: false, httpStatus: 400, exitCode: 70 },
+  HR_ERR_ALERT_ARGUMENT: { message: 'alert argument is out of range', retriable: false, httpStatus: 400, exitCode: 70 },
+  HR_ERR_ALERT_STATE_INVALID: { message: 'saved alert state is invalid', retriable: false, httpStatus: 500, exitCode: 65 },
   HR_ERR_HARNESS_KAFKA_UNAVAILABLE: { message: 'no Kafka broker could be had', retriable: false, httpStatus: 503, exitCode: 69 },
   HR_ERR_HARNESS_KAFKA_START: { message: 'the local Kafka broker did not start', retriable: true, httpStatus: 503, exitCode: 69 },
   HR_ERR_HARNESS_PROMETHEUS_UNAVAILABLE: { message: 'prometheus or promtool is missing', retriable: false, httpStatus: 503, exitCode: 69 },

@@ -19,7 +19,7 @@ export interface CusumArlOptions {
  * a + 1 with probability f and a otherwise, which keeps the mean increment exact. Keeping the small
  * step exact matters: when many small steps are needed to reach h, rounding them would move the
  * threshold by a whole step. States are 0 … ⌈h/unit⌉ − 1; signalling states are absorbed. The survival P(RL > t) is advanced one event at a
- * time; once its ratio from one step to the next has settled (the chain has reached its slowest mode),
+ * time; once its hazard (the share of the surviving mass absorbed) from one step to the next has settled (the chain has reached its slowest mode),
  * the remaining tail is summed as a geometric series. Against a seeded Monte Carlo of BernoulliCusum
  * itself the result agrees within its sampling error (cusum.test.ts). Cost: O(⌈h/unit⌉) per step.
  */
@@ -59,14 +59,17 @@ export function bernoulliCusumArl(
   let next = new Float64Array(states);
   mass[0] = 1;
   let arl = 1; // P(RL > 0)
-  let previousRatio = Number.NaN;
+  let previousHazard = Number.NaN;
   let survival = 1;
   let settled = 0;
+  let absorbed = 0;
   const add = (j: number, m: number): void => {
     if (j < states) next[j < 0 ? 0 : j] = (next[j < 0 ? 0 : j] as number) + m;
+    else absorbed += m;
   };
   for (let step = 1; step <= maxSteps; step++) {
     next.fill(0);
+    absorbed = 0;
     for (let j = 0; j < states; j++) {
       const m = mass[j] as number;
       if (m === 0) continue;
@@ -79,13 +82,16 @@ export function bernoulliCusumArl(
     let s = 0;
     for (let j = 0; j < states; j++) s += mass[j] as number;
     if (s === 0) return arl;
-    const ratio = s / survival;
+    // The hazard (1 − the survival ratio) is taken from the mass absorbed this step, not as 1 − s/survival:
+    // at an ARL of 10⁶ the ratio is 1 − 10⁻⁶, and subtracting it from 1 leaves too few digits to judge
+    // "settled" by (the old test could never pass beyond an ARL of about 10⁵).
+    const hazard = absorbed / survival;
     survival = s;
-    // The geometric tail s/(1 − ratio) is only as good as 1 − ratio, so "settled" is judged against
-    // 1 − ratio, not against ratio: early on, before any path can reach h, the ratio is exactly 1.
-    settled = ratio < 1 && Math.abs(ratio - previousRatio) < 1e-10 * (1 - ratio) ? settled + 1 : 0;
-    previousRatio = ratio;
-    if (settled >= 10) return arl + s / (1 - ratio);
+    // The geometric tail s/hazard is only as good as the hazard, so "settled" is judged relative to it.
+    // Early on, before any path can reach h, the hazard is exactly 0.
+    settled = hazard > 0 && Math.abs(hazard - previousHazard) < 1e-9 * hazard ? settled + 1 : 0;
+    previousHazard = hazard;
+    if (settled >= 10) return arl + s / hazard;
     arl += s;
   }
   throw argumentError(`ARL did not converge in ${maxSteps} steps; lower the threshold or the resolution`, {
