@@ -166,14 +166,18 @@ function defaultClearBelow(statistic: 'psi' | 'ks', above: number): number {
   return statistic === 'psi' ? Math.min(ALERT_DEFAULTS.psiClearBelow, above / 2) : above * ALERT_DEFAULTS.ksClearFraction;
 }
 
-export const alertsSectionSchema = z
-  .strictObject({ rules: z.array(rule, { error: 'must be a list of rules' }).default([]) })
-  .superRefine((section, ctx) => {
-    section.rules.forEach((r, i) => {
-      const first = section.rules.findIndex((o) => o.name === r.name);
-      if (first !== i) ctx.addIssue({ code: 'custom', path: ['rules', i, 'name'], message: `repeats ${JSON.stringify(r.name)} (rules[${first}].name); each rule needs its own name, it is the rule label of the alert metrics` });
+/** `alerts.rules`: the watch config's section (src/config/schema.ts) holds it beside its own settings. */
+export const alertRulesSchema = z
+  .array(rule, { error: 'must be a list of rules' })
+  .default([])
+  .superRefine((rules, ctx) => {
+    rules.forEach((r, i) => {
+      const first = rules.findIndex((o) => o.name === r.name);
+      if (first !== i) ctx.addIssue({ code: 'custom', path: [i, 'name'], message: `repeats ${JSON.stringify(r.name)} (rules[${first}].name); each rule needs its own name, it is the rule label of the alert metrics` });
     });
   });
+
+export const alertsSectionSchema = z.strictObject({ rules: alertRulesSchema });
 
 /** What `alerts:` gives when the file leaves it out. */
 export const DEFAULT_ALERTS_SECTION: AlertsSection = Object.freeze({ rules: Object.freeze([]) as readonly AlertRule[] });

@@ -4,6 +4,7 @@ export {
   ALERT_DEFAULTS,
   ANY_MODEL,
   DEFAULT_ALERTS_SECTION,
+  alertRulesSchema,
   alertsSectionSchema,
   checkAlertRules,
   parseAlertsSection,
@@ -16,4 +17,6 @@ export type { DriftInput, ShareRiseInput } from './readings.js';
 export { THRESHOLD_RESOLUTION, batchStep, cusumThreshold, feedEarlyWarning } from './early-warning.js';
 export type { ChartResult, ChartState, ClosedBucket, EarlyWarningInput, ThresholdFor } from './early-warning.js';
 export { ALERT_STATE_FORMAT, AlertBook, ruleApplies } from './book.js';
+export { alertInput, evaluateAlerts } from './evaluate.js';
+export type { AlertSeries, NamedView } from './evaluate.js';
 export type { AlertBookOptions, AlertBookState, AlertInput, AlertStatus, SavedAlert } from './book.js';

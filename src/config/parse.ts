@@ -10,7 +10,7 @@ import { applyEnvOverrides, ENV_VARIABLES, overrideFor } from './env.js';
 import type { Env, Override } from './env.js';
 import { fieldPath, invalidConfig } from './problems.js';
 import type { Problem } from './problems.js';
-import { configSchema, KNOWN_KEYS } from './schema.js';
+import { configSchema, KNOWN_KEYS, SECTION_KEYS } from './schema.js';
 import { ANY_MODEL, resolveParsed } from './resolve.js';
 import type { ConfigResult, HeadroomConfig, ModelConfig } from './types.js';
 
@@ -57,10 +57,12 @@ function editDistance(a: string, b: string): number {
   return row[b.length] as number;
 }
 
-function suggestion(key: string): string {
+/** The closest key of the section the misspelt one sits in (`path`: the section's path), else of any section. */
+function suggestion(key: string, path: readonly PropertyKey[]): string {
+  const at = path.map((p, i) => (typeof p === 'number' ? '[]' : `${i === 0 ? '' : '.'}${String(p)}`)).join('');
   let best: string | undefined;
   let bestDistance = Infinity;
-  for (const known of KNOWN_KEYS) {
+  for (const known of SECTION_KEYS.get(at) ?? KNOWN_KEYS) {
     const d = editDistance(key, known);
     if (d < bestDistance) {
       best = known;
@@ -92,7 +94,7 @@ function issueProblems(issue: z.core.$ZodIssue): { path: PropertyKey[]; detail: 
   const path = [...issue.path];
   switch (issue.code) {
     case 'unrecognized_keys':
-      return issue.keys.map((key) => ({ path: [...path, key], detail: `is not a setting here${suggestion(key)}` }));
+      return issue.keys.map((key) => ({ path: [...path, key], detail: `is not a setting here${suggestion(key, path)}` }));
     case 'invalid_type': {
       const expected = TYPE_WORDS[issue.expected] ?? issue.expected;
       if (issue.input !== undefined) return [{ path, detail: `must be ${expected}, got ${describeInput(issue.input)}` }];

@@ -3,6 +3,7 @@
  * other (kafkajs-style, failing at start-up with the fix), the window config each model's series get,
  * and the warnings for settings that work but are probably not meant.
  */
+import { checkAlertRules } from '../alerts/index.js';
 import { HeadroomError } from '../errors.js';
 import { resolveDecodeLimits } from '../events/index.js';
 import { normaliseThresholds, windowConfig } from '../sketch/index.js';
@@ -163,6 +164,11 @@ export function resolveParsed(
     if (base !== undefined) models.push({ name: m.name, thresholds, segmentKeys: m.segmentKeys, reference: m.reference, maxSeries: m.maxSeries, window: Object.freeze({ ...base, thresholds }) });
   });
 
+  if (base !== undefined) checkAlertRules(parsed.alerts.rules, { models, windows }, report);
+  if (parsed.alerts.evaluateEvery < MIN_CHECKPOINT_INTERVAL_MS) {
+    report(['alerts', 'evaluateEvery'], `${formatDuration(parsed.alerts.evaluateEvery)} is below ${MIN_CHECKPOINT_INTERVAL_MS}ms; each evaluation merges every watched series' views`);
+  }
+
   const c = parsed.checkpoint;
   if (c.interval < MIN_CHECKPOINT_INTERVAL_MS) {
     report(['checkpoint', 'interval'], `${formatDuration(c.interval)} is below ${MIN_CHECKPOINT_INTERVAL_MS}ms: each checkpoint writes every partition's state; use 1s or more`);
@@ -190,6 +196,7 @@ export function resolveParsed(
     maxFutureMs: parsed.maxFuture,
     checkpoint: { dir: c.dir, intervalMs: c.interval },
     referenceReload: { watchFiles: parsed.referenceReload.watchFiles, debounceMs: parsed.referenceReload.debounce },
+    alerts: { rules: parsed.alerts.rules, evaluateEveryMs: parsed.alerts.evaluateEvery },
     http: parsed.http,
     decode: resolveDecodeLimits(parsed.decode),
   };

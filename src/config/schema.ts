@@ -4,16 +4,23 @@
  * can name both fields and the remedy.
  */
 import { z } from 'zod';
+import { ALERT_CONFIG_KEYS, alertRulesSchema } from '../alerts/index.js';
 import { DEFAULT_DECODE_LIMITS } from '../events/index.js';
 import { DEFAULT_REFERENCE_THRESHOLDS } from '../reference/index.js';
 import { DEFAULT_WINDOW_CONFIG } from '../sketch/index.js';
 import { formatDuration, parseDuration } from './durations.js';
 
 /** Every key any section knows, for "did you mean" on a misspelt key. */
-export const KNOWN_KEYS = new Set<string>();
+export const KNOWN_KEYS = new Set<string>(ALERT_CONFIG_KEYS);
+/**
+ * The keys of each section, by its path with list indices as `[]` (`models[]`, `kafka.tls`), so a
+ * misspelt key is matched against its own section's keys first.
+ */
+export const SECTION_KEYS = new Map<string, ReadonlySet<string>>([['alerts.rules[]', new Set(ALERT_CONFIG_KEYS)]]);
 
-function section<S extends z.ZodRawShape>(shape: S) {
+function section<S extends z.ZodRawShape>(at: string, shape: S) {
   for (const key of Object.keys(shape)) KNOWN_KEYS.add(key);
+  SECTION_KEYS.set(at, new Set(Object.keys(shape)));
   return z.strictObject(shape);
 }
 
@@ -32,7 +39,7 @@ export const DEFAULT_WINDOWS: readonly string[] = Object.freeze(['5m', '1h', '24
 export const DEFAULT_MAX_SERIES = 200;
 export const DEFAULT_HTTP_PORT = 9464;
 
-const tls = section({
+const tls = section('kafka.tls', {
   ca: name.nullable().default(null),
   cert: name.nullable().default(null),
   key: name.nullable().default(null),
@@ -40,14 +47,14 @@ const tls = section({
   servername: name.nullable().default(null),
 });
 
-const sasl = section({
+const sasl = section('kafka.sasl', {
   mechanism: z.enum(['plain', 'scram-sha-256', 'scram-sha-512'], { error: 'must be one of plain, scram-sha-256, scram-sha-512' }),
   username: name,
   // Absent here is normal: the password belongs in HEADROOM_KAFKA_SASL_PASSWORD.
   password: name.optional(),
 });
 
-const kafka = section({
+const kafka = section('kafka', {
   brokers: names.min(1, { error: 'must list at least one broker (host:port)' }),
   clientId: name.default('headroom'),
   groupId: name.default('headroom'),
@@ -63,7 +70,7 @@ const kafka = section({
   heartbeatInterval: duration.prefault('3s'),
 });
 
-const model = section({
+const model = section('models[]', {
   name: name.max(DEFAULT_DECODE_LIMITS.maxTextLength, { error: `must be at most ${DEFAULT_DECODE_LIMITS.maxTextLength} characters` }),
   thresholds: z
     .array(z.number().gt(0, { error: 'must be in (0, 1)' }).lt(1, { error: 'must be in (0, 1)' }))
@@ -74,11 +81,11 @@ const model = section({
   maxSeries: wholeAtLeast(1).default(DEFAULT_MAX_SERIES),
 });
 
-export const configSchema = section({
+export const configSchema = section('', {
   kafka,
   models: z.array(model).min(1, { error: 'must hold at least one model; leave models out to watch every model with defaults' }).prefault([{ name: '*' }]),
   windows: z.array(z.string({ error: 'must be a duration such as "5m"' })).min(1, { error: 'must hold at least one window' }).default([...DEFAULT_WINDOWS]),
-  history: section({
+  history: section('history', {
     // The sketch's own defaults, so the file and a series built without a config agree.
     bucket: duration.prefault(formatDuration(DEFAULT_WINDOW_CONFIG.bucketMs)),
     fineSpan: duration.prefault(formatDuration(DEFAULT_WINDOW_CONFIG.fineSpanMs)),
@@ -87,21 +94,26 @@ export const configSchema = section({
   }).prefault({}),
   lateness: duration.prefault(formatDuration(DEFAULT_WINDOW_CONFIG.latenessMs)),
   maxFuture: duration.prefault(formatDuration(DEFAULT_WINDOW_CONFIG.maxFutureMs)),
-  checkpoint: section({
+  checkpoint: section('checkpoint', {
     dir: name.default('./state'),
     interval: duration.prefault('5s'),
   }).prefault({}),
   // Reference files are read at start and again on SIGHUP; this adds a reload when a file changes on disk.
-  referenceReload: section({
+  referenceReload: section('referenceReload', {
     watchFiles: z.boolean().default(true),
     // Editors and deploys write a file in several steps: wait for them to finish before reading it.
     debounce: duration.prefault('500ms'),
   }).prefault({}),
-  http: section({
+  alerts: section('alerts', {
+    rules: alertRulesSchema,
+    // Evaluated in event time (the series' newest event), on this wall-clock cadence.
+    evaluateEvery: duration.prefault('10s'),
+  }).prefault({}),
+  http: section('http', {
     host: name.default('127.0.0.1'),
     port: wholeAtLeast(0).max(65_535, { error: 'must be at most 65535' }).default(DEFAULT_HTTP_PORT),
   }).prefault({}),
-  decode: section({
+  decode: section('decode', {
     maxBytes: wholeAtLeast(1).default(DEFAULT_DECODE_LIMITS.maxBytes),
     maxTextLength: wholeAtLeast(1).default(DEFAULT_DECODE_LIMITS.maxTextLength),
     maxIdLength: wholeAtLeast(1).default(DEFAULT_DECODE_LIMITS.maxIdLength),

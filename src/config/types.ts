@@ -3,6 +3,7 @@
  * never default or check a value again. Durations are milliseconds; paths are as written until
  * loadConfig resolves them against the config file's directory.
  */
+import type { AlertRule } from '../alerts/index.js';
 import type { DecodeLimits } from '../events/index.js';
 import type { WindowConfig } from '../sketch/index.js';
 import type { Secret } from './secret.js';
@@ -81,6 +82,8 @@ export interface HeadroomConfig {
   readonly checkpoint: { readonly dir: string; readonly intervalMs: number };
   /** Reload the reference files when they change on disk (SIGHUP reloads them either way), after debounceMs of quiet. */
   readonly referenceReload: { readonly watchFiles: boolean; readonly debounceMs: number };
+  /** Alert rules (src/alerts) and how often the watcher evaluates them. */
+  readonly alerts: { readonly rules: readonly AlertRule[]; readonly evaluateEveryMs: number };
   readonly http: { readonly host: string; readonly port: number };
   readonly decode: DecodeLimits;
 }

@@ -139,6 +139,30 @@ export function createApiRouter(options: ApiOptions): Router {
     });
   });
 
+  router.get('/alerts', (_req, res) => {
+    const report = source.alerts?.();
+    if (report === undefined) {
+      res.json({ rules: [], alerts: [], recent: [] });
+      return;
+    }
+    res.json({
+      rules: report.rules.map((r) => ({ name: r.name, kind: r.kind, model: r.model, segmentKey: r.segmentKey })),
+      alerts: report.alerts.map((a) => ({
+        rule: a.rule,
+        kind: a.kind,
+        ...a.series,
+        phase: a.phase,
+        since: a.sinceMs === null ? null : new Date(a.sinceMs).toISOString(),
+        value: a.reading?.value ?? null,
+        fireLevel: a.reading?.fireLevel ?? null,
+        clearLevel: a.reading?.clearLevel ?? null,
+        verdict: a.reading?.verdict ?? null,
+        ...(a.reading?.reason === undefined ? {} : { reason: a.reading.reason }),
+      })),
+      recent: report.recent.map((t) => ({ ...t, at: new Date(t.at).toISOString() })),
+    });
+  });
+
   return router;
 }
 

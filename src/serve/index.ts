@@ -5,6 +5,7 @@ export { DEFAULT_CDF_POINTS, MAX_CDF_POINTS, MIN_CDF_POINTS } from './api.js';
 export { createMetrics } from './metrics.js';
 export type { HeadroomMetrics, MetricsOptions } from './metrics.js';
 export type {
+  AlertReport,
   PartitionInfo,
   Readiness,
   ReferenceFileReport,

@@ -180,6 +180,13 @@ export function createMetrics(options: MetricsOptions): HeadroomMetrics {
       if (p.lastCheckpointMs !== null) emit({ topic: p.topic, partition: String(p.partition) }, Math.max(0, now - p.lastCheckpointMs) / 1000);
     }
   });
+  if (source.alerts !== undefined) {
+    const alerts = source.alerts.bind(source);
+    // Firing and easing both count as firing: easing is a firing alert waiting out its clear hold.
+    gauge('headroom_alert_firing', '1 while the alert rule fires for the series (phase firing or easing), else 0.', [...SERIES, 'rule'], (emit) => {
+      for (const a of alerts().alerts) emit({ ...a.series, rule: a.rule }, a.phase === 'firing' || a.phase === 'easing' ? 1 : 0);
+    });
+  }
 
   return { registry, names: Object.freeze(names) };
 }

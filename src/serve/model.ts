@@ -4,6 +4,7 @@
  * when Prometheus scrapes or a client asks, never per message, so an implementation may merge the
  * partitions' windows inside series() instead of keeping a merged copy up to date.
  */
+import type { AlertRule, AlertStatus, AlertTransition } from '../alerts/index.js';
 import type { ReferenceSegment } from '../reference/index.js';
 import type { MarginWindows } from '../sketch/index.js';
 
@@ -30,6 +31,8 @@ export interface SeriesSnapshot extends SeriesKey {
   readonly reference: ReferenceSegment | undefined;
   /** Where `reference` came from and when; absent when none is loaded (or the source does not say). */
   readonly referenceOrigin?: ReferenceOrigin;
+  /** The oldest of the partitions' watermarks for the series (see mergeView); absent: the windows' own. */
+  readonly settledWatermarkMs?: number | null;
 }
 
 /**
@@ -89,6 +92,15 @@ export interface WatchedSeriesSource {
   partitions(): readonly PartitionInfo[];
   /** Loaded references and their files; a source without reference files may leave it out. */
   references?(): ReferenceReport;
+  /** Alert rules, every alert's phase and the latest transitions; a source without alerting leaves it out. */
+  alerts?(): AlertReport;
+}
+
+export interface AlertReport {
+  readonly rules: readonly AlertRule[];
+  readonly alerts: readonly AlertStatus[];
+  /** The latest transitions, oldest first. */
+  readonly recent: readonly AlertTransition[];
 }
 
 /** A named view of the windows, e.g. `{ name: '5m', durationMs: 300_000 }`; the name is the `window` label. */

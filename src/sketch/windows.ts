@@ -166,6 +166,23 @@ export class MarginWindows {
   }
 
   /**
+   * The fine buckets that end at or before `throughMs`, oldest first, with their exact counts below
+   * `threshold` (one of config.thresholds): what an early-warning chart is fed, once per bucket. Coarse
+   * buckets are left out: their spans overlap the fine ones', and a chart more than the fine span behind
+   * skips that stretch rather than take it in one lump.
+   */
+  settledBuckets(throughMs: number, threshold: number): { startMs: number; endMs: number; count: number; low: number }[] {
+    finiteArgument('throughMs', throughMs);
+    const out: { startMs: number; endMs: number; count: number; low: number }[] = [];
+    for (const [startMs, s] of sortedEntries(this.fine)) {
+      const endMs = startMs + this.config.bucketMs;
+      if (endMs > throughMs) break;
+      out.push({ startMs, endMs, count: s.count, low: s.countBelow(threshold) });
+    }
+    return out;
+  }
+
+  /**
    * Adds the buckets and counts of `other` (the same series from another partition, same config);
    * `other` is not changed. The watermark becomes the later of the two.
    */

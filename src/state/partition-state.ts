@@ -350,6 +350,12 @@ function issueField(path: readonly PropertyKey[], root: string): string {
 export interface SeriesView extends SeriesId, SeriesCounts {
   /** A fresh merged copy: the partitions' windows are not changed, and later changes to them do not show. */
   readonly windows: MarginWindows;
+  /**
+   * The oldest of the partitions' own watermarks for this series (each partition judges lateness
+   * against its own): buckets ending before this minus the lateness can gain no more events from any
+   * partition that has seen the series. Null before the first event.
+   */
+  readonly settledWatermarkMs: number | null;
 }
 
 export interface MergedView {
@@ -366,7 +372,7 @@ export interface MergedView {
  * (MarginWindows.merge) and every count added, so counts equal one stream's exactly. Off the hot path.
  */
 export function mergeView(states: readonly PartitionState[]): MergedView {
-  const byId = new Map<string, { model: string; version: string; segment: string; events: number; labelled: number; wrong: number; windows: MarginWindows }>();
+  const byId = new Map<string, { model: string; version: string; segment: string; events: number; labelled: number; wrong: number; windows: MarginWindows; settledWatermarkMs: number | null }>();
   let events = 0;
   let unwatched = 0;
   let late = 0;
@@ -391,9 +397,11 @@ export function mergeView(states: readonly PartitionState[]): MergedView {
       const key = `${s.model}\u0000${s.version}\u0000${s.segment}`;
       let view = byId.get(key);
       if (view === undefined) {
-        view = { model: s.model, version: s.version, segment: s.segment, events: 0, labelled: 0, wrong: 0, windows: new MarginWindows(s.windows.config) };
+        view = { model: s.model, version: s.version, segment: s.segment, events: 0, labelled: 0, wrong: 0, windows: new MarginWindows(s.windows.config), settledWatermarkMs: null };
         byId.set(key, view);
       }
+      const w = s.windows.watermarkMs;
+      if (w !== null) view.settledWatermarkMs = view.settledWatermarkMs === null ? w : Math.min(view.settledWatermarkMs, w);
       view.events += s.events;
       view.labelled += s.labelled;
       view.wrong += s.wrong;

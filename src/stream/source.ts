@@ -29,6 +29,7 @@ export function createSeriesSource(view: SourceView, references: () => Reference
           segment: s.segment,
           events: s.events,
           windows: s.windows,
+          settledWatermarkMs: s.settledWatermarkMs,
           reference,
           ...(origin === undefined ? {} : { referenceOrigin: origin }),
         };

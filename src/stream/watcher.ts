@@ -32,6 +32,8 @@ import type { PartitionInfo, Readiness, WatchedSeriesSource } from '../serve/ind
 import { PartitionState } from '../state/index.js';
 import type { CheckpointStore, PartitionStateJson } from '../state/index.js';
 import { kafkaLogCreator } from './kafka-log.js';
+import { createAlertRunner } from './alert-runner.js';
+import type { TransitionListener } from './alert-runner.js';
 import { DeadLetters } from './dead-letters.js';
 import { createReferenceFiles } from './reference-files.js';
 import type { ReloadReport } from './reference-files.js';
@@ -51,6 +53,8 @@ export interface WatcherDependencies {
   readonly nowMs: () => number;
   /** How often the high watermarks are fetched for the lag; default the checkpoint interval (at least 1 s). */
   readonly lagIntervalMs?: number;
+  /** Told of every alert transition, after the alert state is saved (src/notify makes webhook and log listeners). */
+  readonly alertListeners?: readonly TransitionListener[];
   /** Told once when the consumer stops for good (a crash kafkajs will not restart from). */
   readonly onFatal?: (error: HeadroomError) => void;
 }
@@ -145,7 +149,20 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
       })
       .sort((a, b) => (a.topic < b.topic ? -1 : a.topic > b.topic ? 1 : a.partition - b.partition));
 
-  const source = createSeriesSource({ states: () => [...owned.values()], readiness, partitions }, references.current);
+  const series = createSeriesSource({ states: () => [...owned.values()], readiness, partitions }, references.current);
+  const alerting =
+    config.alerts.rules.length === 0
+      ? undefined
+      : createAlertRunner({
+          rules: config.alerts.rules,
+          views: config.windows,
+          series: () => series.series(),
+          dir: config.checkpoint.dir,
+          group,
+          logger: deps.logger.child({ component: 'alerts' }),
+          listeners: deps.alertListeners ?? [],
+        });
+  const source: WatchedSeriesSource = alerting === undefined ? series : { ...series, alerts: () => alerting.report() };
   createMetrics({ registry: deps.registry, source, views: config.windows, nowMs });
 
   async function loadCheckpoints(): Promise<void> {
@@ -348,6 +365,7 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
       await references.load().catch((e: unknown) => Promise.reject(startError('loading references', e)));
       if (config.referenceReload.watchFiles) references.watchFiles(config.referenceReload.debounceMs);
       await loadCheckpoints().catch((e: unknown) => Promise.reject(startError('loading checkpoints', e)));
+      await alerting?.load().catch((e: unknown) => Promise.reject(startError('loading the alert state', e)));
       await listen().catch((e: unknown) => Promise.reject(startError(`listening on ${config.http.host}:${config.http.port}`, e)));
       const options: KafkajsConfig = { ...kafkaClientOptions(config, deps.tls ?? {}), logCreator: kafkaLogCreator(deps.logger.child({ component: 'kafkajs' })) };
       kafka = (deps.createKafka ?? ((o: KafkajsConfig) => new Kafka(o)))(options);
@@ -398,6 +416,7 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
           ),
         'lag refresh',
       );
+      if (alerting !== undefined) every(config.alerts.evaluateEveryMs, () => alerting.tick().then(() => undefined), 'alert evaluation');
       log.info({ group, topics: [...topics] }, 'consumer running');
     } catch (error) {
       await close().catch(() => undefined);

@@ -236,6 +236,23 @@ describe('parseConfig: cross-field checks', () => {
     expect(parseConfig(`${MINIMAL}  sessionTimeout: 9s\n  heartbeatInterval: 3s\n`, 'headroom.yaml', {}).config.kafka).toMatchObject({ sessionTimeoutMs: 9_000, heartbeatIntervalMs: 3_000 });
   });
 
+  it('alert rules: parsed with their defaults, checked against models, windows and thresholds, misspellings matched in their own section', () => {
+    const rules = `models: [{ name: parcel-damage, segmentKeys: [line] }]\nalerts:\n  evaluateEvery: 30s\n  rules:\n    - { name: line-rise, kind: shareRise, model: parcel-damage, segmentKey: line, threshold: 0.25, window: 5m }\n`;
+    const { config } = parseConfig(`${MINIMAL}${rules}`, 'headroom.yaml', {});
+    expect(config.alerts.evaluateEveryMs).toBe(30_000);
+    expect(config.alerts.rules).toEqual([expect.objectContaining({ name: 'line-rise', kind: 'shareRise', segmentKey: 'line', threshold: 0.25, window: '5m', holdMs: 300_000, minCount: 500 })]);
+    expect(parseConfig(MINIMAL, 'headroom.yaml', {}).config.alerts).toEqual({ rules: [], evaluateEveryMs: 10_000 });
+    expect(problemsOf(`${MINIMAL}alerts: { rules: [{ name: r, kind: shareRise, threshold: 0.3 }] }\n`)).toEqual([
+      expect.stringMatching(/^headroom\.yaml: alerts\.rules\[0\]\.threshold: 0\.3 is not among the thresholds of "\*"/),
+    ]);
+    expect(problemsOf(`${MINIMAL}alerts: { rules: [{ name: r, kind: drift, statistic: psi, window: 2h }] }\n`)).toEqual([
+      expect.stringMatching(/^headroom\.yaml: alerts\.rules\[0\]\.window: "2h" is not one of windows \(5m, 1h, 24h\)/),
+    ]);
+    expect(problemsOf(`${MINIMAL}alerts: { rules: [{ name: r, kind: drift, statistic: psi, windw: 1h }] }\n`)).toEqual([
+      expect.stringMatching(/alerts\.rules\[0\]\.windw: is not a setting here; did you mean "window"\?/),
+    ]);
+  });
+
   it('a client certificate without its key', () => {
     expect(problemsOf(`${MINIMAL}  tls: { cert: c.pem }\n`)).toEqual([expect.stringMatching(/^headroom\.yaml: kafka\.tls\.key: is needed with kafka\.tls\.cert/)]);
   });

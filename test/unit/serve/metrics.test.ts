@@ -3,7 +3,6 @@
  * raw numbers, drift from src/compare on the very distributions the windows hold, and the whole
  * exposition through the real `promtool check metrics`.
  */
-import { spawnSync } from 'node:child_process';
 import { Registry } from 'prom-client';
 import { describe, expect, it } from 'vitest';
 import { ksTest, psi, wasserstein1 } from '../../../src/compare/index.js';
@@ -12,6 +11,7 @@ import { EmpiricalDistribution } from '../../../src/sketch/empirical.js';
 import { createMetrics, decimalLabel, METRIC_QUANTILE_LEVELS } from '../../../src/serve/index.js';
 import type { WatchedSeriesSource } from '../../../src/serve/index.js';
 import { find, parseExposition, value } from './exposition.js';
+import { checkMetrics, havePromtool, mustRunPromtool, promtool } from './promtool.js';
 import { MINUTE, MODEL, ORIGIN, REFERENCE_MARGINS, T0, THRESHOLDS, VERSION, VIEWS, lowShare, world } from './fixture.js';
 
 const MAIN = { model: MODEL, version: VERSION, segment: 'all' };
@@ -191,15 +191,7 @@ describe('createMetrics', () => {
   });
 });
 
-const promtool = spawnSync('promtool', ['--version'], { encoding: 'utf8' });
-const havePromtool = promtool.error === undefined && promtool.status === 0;
-const mustRun = process.env.CI === 'true';
-
-function checkMetrics(text: string) {
-  return spawnSync('promtool', ['check', 'metrics'], { input: text, encoding: 'utf8' });
-}
-
-describe.skipIf(!havePromtool && !mustRun)('promtool check metrics', () => {
+describe.skipIf(!havePromtool && !mustRunPromtool)('promtool check metrics', () => {
   it('is on PATH (under CI=true a missing promtool fails here instead of skipping)', () => {
     expect(promtool.error).toBeUndefined();
   });
