@@ -1,6 +1,7 @@
 /**
  * `npm run bench`: every benchmark in turn, each in its own Node process (so one's heap and JIT state
  * never colour another's figures). Benchmarks print figures and ratios; none of them passes or fails.
+ * `npm run bench -- NAME...` runs only the benchmarks whose file name contains a NAME (e.g. `watch-e2e`).
  */
 import { spawnSync } from 'node:child_process';
 import { dirname, join } from 'node:path';
@@ -12,6 +13,7 @@ const BENCHES: ReadonlyArray<{ file: string; title: string; args?: string[] }> =
   { file: 'sketch-accuracy.ts', title: 'sketch accuracy: quantile rank error and KS from sketches vs exact, beside the npm tdigest package' },
   { file: 'sketch-memory.ts', title: 'bytes held per series for 24 h at 1,000 events/s' },
   { file: 'alert-simulation.ts', title: 'alerts: CUSUM (event by event and bucket feed) vs fixed-window threshold, false alarms and delay' },
+  { file: 'watch-e2e.ts', title: 'headroom watch end to end on a real broker vs a bare kafkajs eachBatch + JSON.parse consumer' },
 ];
 
 const only = process.argv.slice(2).filter((a) => !a.startsWith('-'));
