@@ -233,7 +233,7 @@ export function overviewDashboard(): Json {
         transformations: rename({ 'Value #A': 'events/s', 'Value #B': 'low-margin share', 'Value #C': 'reference share', 'Value #D': 'PSI', 'Value #E': 'KS distance' }),
         overrides: [
           { matcher: { id: 'byRegexp', options: '.*share' }, properties: [{ id: 'unit', value: 'percentunit' }] },
-          { matcher: { id: 'byName', options: 'model' }, properties: [{ id: 'links', value: [{ title: 'Open this model', url: '/d/headroom-model/headroom-one-model?${datasource:queryparam}&var-job=${job}&var-model=${__data.fields.model}&var-version=${__data.fields.version}' }] }] },
+          { matcher: { id: 'byName', options: 'model' }, properties: [{ id: 'links', value: [{ title: 'Open this model', url: '/d/headroom-model/headroom-one-model?${datasource:queryparam}&${job:queryparam}&var-model=${__data.fields.model}&var-version=${__data.fields.version}' }] }] },
         ],
       },
       {
