@@ -42,14 +42,25 @@ export interface PromVectorResult {
 
 const sleep = (ms: number): Promise<void> => new Promise((resolve) => setTimeout(resolve, ms));
 
-export async function startPrometheus(targets: readonly ScrapeTarget[], options: { scrapeIntervalS?: number; extraArgs?: string[] } = {}): Promise<RunningPrometheus> {
+export interface PrometheusOptions {
+  readonly scrapeIntervalS?: number;
+  readonly extraArgs?: string[];
+  /** Rule files to load (`rule_files`), evaluated every scrape interval; absolute paths. */
+  readonly ruleFiles?: readonly string[];
+}
+
+export async function startPrometheus(targets: readonly ScrapeTarget[], options: PrometheusOptions = {}): Promise<RunningPrometheus> {
   const dir = mkdtempSync(join(tmpdir(), 'headroom-prometheus-'));
   const port = await freePort();
   const interval = options.scrapeIntervalS ?? 1;
   const scrapeConfigs = targets
     .map((t) => `  - job_name: ${JSON.stringify(t.job)}\n    metrics_path: ${JSON.stringify(t.metricsPath ?? '/metrics')}\n    static_configs:\n      - targets: [${JSON.stringify(t.address)}]`)
     .join('\n');
-  writeFileSync(join(dir, 'prometheus.yml'), `global:\n  scrape_interval: ${interval}s\n  evaluation_interval: ${interval}s\nscrape_configs:\n${scrapeConfigs}\n`);
+  const ruleFiles = (options.ruleFiles ?? []).map((f) => `  - ${JSON.stringify(f)}`).join('\n');
+  writeFileSync(
+    join(dir, 'prometheus.yml'),
+    `global:\n  scrape_interval: ${interval}s\n  evaluation_interval: ${interval}s\n${ruleFiles === '' ? '' : `rule_files:\n${ruleFiles}\n`}scrape_configs:\n${scrapeConfigs}\n`,
+  );
   const child = spawn(
     'prometheus',
     [`--config.file=${join(dir, 'prometheus.yml')}`, `--storage.tsdb.path=${join(dir, 'data')}`, `--web.listen-address=127.0.0.1:${port}`, ...(options.extraArgs ?? [])],
