@@ -70,7 +70,8 @@ export const THRESHOLD_RESOLUTION = 10;
 
 /**
  * The decision level h at which a chart for p0 → p1 alarms once per `inControlEvents` events on
- * average in control (within 1 %, as bernoulliCusumArl computes it). ln ARL0 grows about one per unit of h (Wald: ARL0 >= e^h), so a secant on ln ARL0
+ * average in control (within 1 %, as bernoulliCusumArl computes it; where the lattice moves ARL0 in
+ * larger jumps, the smallest h whose ARL0 reaches the target). ln ARL0 grows about one per unit of h (Wald: ARL0 >= e^h), so a secant on ln ARL0
  * settles in three or four ARL evaluations, each a second or two at ARL0 = 10⁷; callers cache it.
  */
 export function cusumThreshold(p0: number, p1: number, inControlEvents: number, resolution = THRESHOLD_RESOLUTION): number {
@@ -93,6 +94,19 @@ export function cusumThreshold(p0: number, p1: number, inControlEvents: number, 
     a = b;
     fa = fb;
     b = Math.max(lowStep * 1.01, b - fb / (slope > 0 ? slope : 1));
+  }
+  // With few lattice units per low's step (p0 large), ARL0 moves in jumps wider than 1 % and the
+  // secant circles around one. Then take the smallest h whose ARL0 reaches the target: bracket, bisect.
+  let lo = lowStep * 1.01;
+  let hi = Math.max(lo * 2, target);
+  for (let i = 0; i < 60 && miss(hi) < 0; i++) hi *= 2;
+  if (miss(lo) < 0 && miss(hi) >= 0) {
+    for (let i = 0; i < 50 && hi - lo > 1e-6 * hi; i++) {
+      const mid = (lo + hi) / 2;
+      if (miss(mid) >= 0) hi = mid;
+      else lo = mid;
+    }
+    return hi;
   }
   throw alertArgument(`no CUSUM threshold found for p0 ${p0}, p1 ${p1}, inControlEvents ${inControlEvents}`, { p0, p1, inControlEvents });
 }

@@ -52,17 +52,35 @@ export function alertInput(rule: AlertRule, series: AlertSeries, views: readonly
   return { count, ks: report.ks?.statistic ?? null, psi: report.psi?.value ?? null };
 }
 
-/** Evaluates every rule on every series it watches; returns the transitions in series, then rule order. */
-export function evaluateAlerts(book: AlertBook, series: Iterable<AlertSeries>, views: readonly NamedView[]): AlertTransition[] {
-  const out: AlertTransition[] = [];
+export interface AlertFailure {
+  readonly rule: string;
+  readonly series: SeriesRef;
+  readonly error: unknown;
+}
+
+export interface Evaluation {
+  /** In series, then rule order. */
+  readonly transitions: AlertTransition[];
+  /** Alerts that could not be evaluated this time; every other alert still was. */
+  readonly failures: AlertFailure[];
+}
+
+/** Evaluates every rule on every series it watches. One alert failing never keeps the others from their turn. */
+export function evaluateAlerts(book: AlertBook, series: Iterable<AlertSeries>, views: readonly NamedView[]): Evaluation {
+  const transitions: AlertTransition[] = [];
+  const failures: AlertFailure[] = [];
   for (const s of series) {
     const watermark = s.windows.watermarkMs;
     if (watermark === null) continue;
     const ref = { model: s.model, version: s.version, segment: s.segment };
     for (const rule of book.rulesFor(ref)) {
-      const nowMs = Math.max(watermark, book.lastTransitionMs(rule.name, ref) ?? -Infinity);
-      out.push(...book.evaluate(rule.name, ref, alertInput(rule, s, views), nowMs));
+      try {
+        const nowMs = Math.max(watermark, book.lastTransitionMs(rule.name, ref) ?? -Infinity);
+        transitions.push(...book.evaluate(rule.name, ref, alertInput(rule, s, views), nowMs));
+      } catch (error) {
+        failures.push({ rule: rule.name, series: ref, error });
+      }
     }
   }
-  return out;
+  return { transitions, failures };
 }

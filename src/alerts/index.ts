@@ -18,5 +18,5 @@ export { THRESHOLD_RESOLUTION, batchStep, cusumThreshold, feedEarlyWarning } fro
 export type { ChartResult, ChartState, ClosedBucket, EarlyWarningInput, ThresholdFor } from './early-warning.js';
 export { ALERT_STATE_FORMAT, AlertBook, ruleApplies } from './book.js';
 export { alertInput, evaluateAlerts } from './evaluate.js';
-export type { AlertSeries, NamedView } from './evaluate.js';
+export type { AlertFailure, AlertSeries, Evaluation, NamedView } from './evaluate.js';
 export type { AlertBookOptions, AlertBookState, AlertInput, AlertStatus, SavedAlert } from './book.js';

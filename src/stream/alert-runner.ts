@@ -51,6 +51,7 @@ export function createAlertRunner(options: AlertRunnerOptions): AlertRunner {
   let saved = '';
   let temp = 0;
   const recent: AlertTransition[] = [];
+  let failing = new Map<string, string>();
 
   async function load(): Promise<void> {
     let text: string;
@@ -87,7 +88,16 @@ export function createAlertRunner(options: AlertRunnerOptions): AlertRunner {
   }
 
   async function tick(): Promise<readonly AlertTransition[]> {
-    const transitions = evaluateAlerts(book, options.series(), views);
+    const { transitions, failures } = evaluateAlerts(book, options.series(), views);
+    // Logged when an alert starts failing or its reason changes, not at every tick.
+    const failingNow = new Map<string, string>();
+    for (const f of failures) {
+      const key = `${f.rule}\u0000${f.series.model}\u0000${f.series.version}\u0000${f.series.segment}`;
+      const message = f.error instanceof Error ? f.error.message : String(f.error);
+      failingNow.set(key, message);
+      if (failing.get(key) !== message) logger.error({ err: f.error, rule: f.rule, ...f.series }, 'alert not evaluated');
+    }
+    failing = failingNow;
     try {
       await save();
     } catch (error) {

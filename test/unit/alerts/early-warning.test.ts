@@ -88,6 +88,17 @@ describe('cusumThreshold and the documented defaults', () => {
     expect(b.mean).toBeGreaterThanOrEqual(claimed - 4 * b.se);
   }, 60_000);
 
+  it('finds h for large reference shares too, where the lattice moves ARL0 in jumps wider than 1 %', () => {
+    // p0 ≈ 0.26 made the secant circle without settling (seen on a real stream); now: the smallest h that reaches the target.
+    for (const p0 of [0.25866666666666666, 0.4]) {
+      const h = cusumThreshold(p0, 2 * p0, 1e6);
+      const arl = (t: number): number => bernoulliCusumArl({ p0, p1: 2 * p0, threshold: t }, { resolution: 10 });
+      expect(arl(h)).toBeGreaterThanOrEqual(1e6 * 0.99);
+      expect(arl(h)).toBeLessThan(1e6 * 1.1);
+      expect(arl(h * 0.98)).toBeLessThan(arl(h));
+    }
+  });
+
   it('refuses p1 <= p0 and, below 1/p0 events, gives the one-low threshold', () => {
     expect(caught(() => cusumThreshold(0.1, 0.1, 1000)).code).toBe('HR_ERR_ALERT_ARGUMENT');
     expect(cusumThreshold(0.01, 0.02, 50)).toBeCloseTo(Math.log(2), 12);

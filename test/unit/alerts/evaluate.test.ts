@@ -45,7 +45,7 @@ function run(restartAt?: number): { transitions: AlertTransition[]; book: AlertB
       const w = windows.get(line) as MarginWindows;
       for (const p of list) if (p.timeMs >= T0 + m * MINUTE && p.timeMs < T0 + (m + 1) * MINUTE) w.add(p.margin, p.timeMs, p.timeMs);
     }
-    transitions.push(...evaluateAlerts(book, series, VIEWS));
+    transitions.push(...evaluateAlerts(book, series, VIEWS).transitions);
     if (m === restartAt) book = AlertBook.fromState(rules, JSON.parse(JSON.stringify(book.toState())), { thresholdFor: () => 5 }).book;
   }
   return { transitions, book, series };
@@ -110,6 +110,21 @@ describe('evaluateAlerts over real windows and a real reference', () => {
     const brewingAt = plain.find((t) => t.rule === 'line-rise' && t.to === 'brewing')?.at as number;
     const restartMinute = Math.floor((brewingAt - T0) / MINUTE) + 1;
     expect(run(restartMinute).transitions).toEqual(plain);
+  });
+
+  it('evaluates every other alert when one cannot be evaluated, and names the one that failed', () => {
+    const { book, series } = run();
+    // A series whose windows lack the rule's θ: its readings throw; the other series' still count.
+    const odd = new MarginWindows({ thresholds: [0.1] });
+    odd.add(0.05, T0, T0);
+    const broken: AlertSeries = { model: MODEL, version: VERSION, segment: 'line=0', windows: odd, reference: undefined };
+    const before = book.status().find((a) => a.rule === 'line-early' && a.series.segment === 'line=2')?.chart;
+    const { failures } = evaluateAlerts(book, [broken, ...series], VIEWS);
+    // Its early-warning chart has no settled bucket yet (so nothing to read at 0.25), and no reference: unknown, not a failure.
+    expect(failures.map((f) => `${f.rule} ${f.series.segment}`)).toEqual(['line-rise line=0']);
+    expect(book.status().find((a) => a.rule === 'line-early' && a.series.segment === 'line=0')?.reading?.verdict).toBe('unknown');
+    expect(String(failures[0]?.error)).toContain('0.25 is not configured');
+    expect(book.status().find((a) => a.rule === 'line-early' && a.series.segment === 'line=2')?.chart).toEqual(before);
   });
 
   it('never evaluates an alert before its last transition, even when the watermark goes back', () => {

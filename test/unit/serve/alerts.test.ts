@@ -24,7 +24,7 @@ const { rules } = parseAlertsSection({
 
 const w = world();
 const book = new AlertBook(rules);
-const transitions = evaluateAlerts(book, w.source.snapshots, VIEWS);
+const { transitions, failures } = evaluateAlerts(book, w.source.snapshots, VIEWS);
 const report: AlertReport = { rules, alerts: book.status(), recent: transitions };
 const source = { ...w.source, alerts: () => report };
 const registry = new Registry();
@@ -46,6 +46,7 @@ afterAll(async () => {
 
 describe('alerts on /metrics and the API', () => {
   it('fires on the main series, whose recent share is far above its reference, and not on the quiet line', () => {
+    expect(failures).toEqual([]);
     expect(transitions.map((t) => `${t.rule} ${t.series.segment} ${t.from}>${t.to}`)).toEqual(['share-up all calm>brewing', 'share-up all brewing>firing']);
     // line=9's 5m view is empty: fewer events than minCount, so it says nothing and stays calm.
     expect(book.phaseOf('line-share-up', { model: MODEL, version: VERSION, segment: 'line=9' })).toBe('calm');
