@@ -26,6 +26,8 @@ export function retryAfterMs(header: string | null | undefined, nowMs: number, m
   if (header === null || header === undefined) return undefined;
   const text = header.trim();
   if (/^\d+$/.test(text)) return Math.min(Number(text) * 1000, maxMs);
+  // Every HTTP-date form starts with a day name; Date.parse alone would take "-5" as a year.
+  if (!/^[A-Za-z]{3}/.test(text)) return undefined;
   const at = Date.parse(text);
   if (Number.isNaN(at)) return undefined;
   return Math.min(Math.max(0, at - nowMs), maxMs);

@@ -49,8 +49,8 @@ export function seriesLink(base: string, t: AlertTransition): string {
 }
 
 /** Six significant digits at most, no exponent for the sizes seen here: 0.0750000001 → "0.075". */
-function num(x: number): string {
-  return String(Number(x.toPrecision(6)));
+function num(x: number, digits = 6): string {
+  return String(Number(x.toPrecision(digits)));
 }
 
 function scope(rule: AlertRule): string {
@@ -62,7 +62,7 @@ export function describeRule(rule: AlertRule): string {
   switch (rule.kind) {
     case 'shareRise':
       return (
-        `${scope(rule)}: share of margins below ${num(rule.threshold)} over ${rule.window} (Wilson lower bound, z ${num(rule.z)}, ` +
+        `${scope(rule)}: share of margins below ${num(rule.threshold)} over ${rule.window} (Wilson lower bound, z ${num(rule.z, 3)}, ` +
         `at least ${rule.minCount} events) above reference × ${num(1 + rule.tolerance)}; clears at or below reference × ${num(1 + rule.clearTolerance)}`
       );
     case 'earlyWarning':
