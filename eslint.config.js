@@ -17,7 +17,7 @@ export default tseslint.config(
   },
   {
     // The pure core never reads the clock, the file system or the network.
-    files: ['src/events/**', 'src/margin/**', 'src/sketch/**', 'src/compare/**', 'src/reference/**', 'src/alerts/**'],
+    files: ['src/events/**', 'src/margin/**', 'src/sketch/**', 'src/compare/**', 'src/reference/**', 'src/alerts/**', 'src/notify/notice.ts', 'src/notify/backoff.ts', 'src/notify/config.ts'],
     rules: {
       'no-restricted-imports': ['error', { patterns: ['node:fs*', 'fs', 'kafkajs', 'express', 'prom-client', 'node:net', 'node:http'] }],
       'no-restricted-properties': ['error', { object: 'Date', property: 'now', message: 'Pass the time in.' }],
