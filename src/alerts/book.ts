@@ -203,6 +203,11 @@ export class AlertBook {
     return [...this.#entries.values()].sort(byKey).map((e) => ({ rule: e.rule.name, kind: e.rule.kind, series: e.series, ...e.lifecycle, reading: e.reading, chart: e.chart }));
   }
 
+  /** The alert's last reading; null before its first evaluation. */
+  readingOf(ruleName: string, series: SeriesRef): Reading | null {
+    return this.#entries.get(keyOf(ruleName, series))?.reading ?? null;
+  }
+
   /** When the alert last changed phase; null before its first transition. Evaluation time may not go before it. */
   lastTransitionMs(ruleName: string, series: SeriesRef): number | null {
     return this.#entries.get(keyOf(ruleName, series))?.lifecycle.sinceMs ?? null;

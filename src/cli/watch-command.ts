@@ -10,10 +10,14 @@ import { describeConfig, ENV_VARIABLES, loadConfig, readTlsMaterial } from '../c
 import type { Env } from '../config/index.js';
 import { HeadroomError } from '../errors.js';
 import { FileCheckpointStore } from '../state/index.js';
+import { combineNotifiers, createLogNotifier, createWebhookNotifier, noticeOf, registerNotificationMetrics, webhookOptionsFrom } from '../notify/index.js';
+import type { Notifier } from '../notify/index.js';
 import { createWatcher } from '../stream/index.js';
 
 /** A shutdown that takes longer than this exits 1 instead of hanging a deploy. */
 export const SHUTDOWN_TIMEOUT_MS = 15_000;
+/** How long shutdown waits for alert notices still queued for the webhook. */
+const NOTIFY_FLUSH_MS = 5_000;
 
 const HELP = `
 Environment (each overrides the file):
@@ -21,6 +25,7 @@ Environment (each overrides the file):
   ${ENV_VARIABLES.saslUsername}  SASL user (kafka.sasl.username)
   ${ENV_VARIABLES.saslPassword}  SASL password; only from here, never in the file
   ${ENV_VARIABLES.httpPort}            port of /metrics, /healthz, /readyz and /api (http.port)
+  ${ENV_VARIABLES.alertWebhookToken}  bearer token for alerts.webhook; only from here, never in the file
   LOG_LEVEL                     pino level: fatal, error, warn, info (default), debug, trace
 
 State is kept per Kafka partition under checkpoint.dir and written with its next offset; on start the
@@ -50,6 +55,11 @@ export async function runWatch(configPath: string, io: WatchIo): Promise<void> {
   logger.info({ config: describeConfig(config) }, 'configuration');
   const tls = await readTlsMaterial(config);
   const store = new FileCheckpointStore({ dir: config.checkpoint.dir });
+  const registry = new Registry();
+  const notifiers: Notifier[] = [createLogNotifier(logger.child({ component: 'alerts' }))];
+  if (config.alerts.webhook !== null) notifiers.push(createWebhookNotifier(webhookOptionsFrom(config.alerts.webhook, io.env, logger.child({ component: 'webhook' }))));
+  const notifier = combineNotifiers(notifiers);
+  if (config.alerts.rules.length > 0) registerNotificationMetrics(registry, notifiers);
   let fatal: HeadroomError | undefined;
   let wakeOnFatal: (() => void) | undefined;
   const fatalStop = new Promise<string>((resolve) => (wakeOnFatal = () => resolve('consumer crash')));
@@ -58,8 +68,9 @@ export async function runWatch(configPath: string, io: WatchIo): Promise<void> {
     tls,
     store,
     logger,
-    registry: new Registry(),
+    registry,
     nowMs: () => Date.now(),
+    alertListeners: [(transition, rule, reading) => notifier.notify(noticeOf(transition, rule, { reading, linkBase: config.alerts.linkBase }))],
     onFatal: (error) => {
       fatal = error;
       wakeOnFatal?.();
@@ -92,6 +103,9 @@ export async function runWatch(configPath: string, io: WatchIo): Promise<void> {
   });
   try {
     await Promise.race([watcher.close(), timeout]);
+    // The last transitions may still be on their way to the webhook; what is not sent by then is logged as dropped.
+    if (!(await notifier.flush(NOTIFY_FLUSH_MS))) logger.warn({ pending: notifier.counts().pending }, 'alert notices still unsent at shutdown');
+    await notifier.close();
   } finally {
     clearTimeout(timer);
     unsubscribe?.();

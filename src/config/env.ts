@@ -12,6 +12,8 @@ export const ENV_VARIABLES = {
   saslUsername: 'HEADROOM_KAFKA_SASL_USERNAME',
   saslPassword: 'HEADROOM_KAFKA_SASL_PASSWORD',
   httpPort: 'HEADROOM_HTTP_PORT',
+  /** Read when the webhook notifier is made (src/notify), never put into the config. */
+  alertWebhookToken: 'HEADROOM_ALERT_WEBHOOK_TOKEN',
 } as const;
 
 export interface Override {

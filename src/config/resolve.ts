@@ -196,7 +196,7 @@ export function resolveParsed(
     maxFutureMs: parsed.maxFuture,
     checkpoint: { dir: c.dir, intervalMs: c.interval },
     referenceReload: { watchFiles: parsed.referenceReload.watchFiles, debounceMs: parsed.referenceReload.debounce },
-    alerts: { rules: parsed.alerts.rules, evaluateEveryMs: parsed.alerts.evaluateEvery },
+    alerts: { rules: parsed.alerts.rules, evaluateEveryMs: parsed.alerts.evaluateEvery, webhook: parsed.alerts.webhook ?? null, linkBase: parsed.alerts.linkBase },
     http: parsed.http,
     decode: resolveDecodeLimits(parsed.decode),
   };

@@ -5,18 +5,22 @@
  */
 import { z } from 'zod';
 import { ALERT_CONFIG_KEYS, alertRulesSchema } from '../alerts/index.js';
+import { linkBaseSchema, WEBHOOK_CONFIG_KEYS, webhookSectionSchema } from '../notify/config.js';
 import { DEFAULT_DECODE_LIMITS } from '../events/index.js';
 import { DEFAULT_REFERENCE_THRESHOLDS } from '../reference/index.js';
 import { DEFAULT_WINDOW_CONFIG } from '../sketch/index.js';
 import { formatDuration, parseDuration } from './durations.js';
 
 /** Every key any section knows, for "did you mean" on a misspelt key. */
-export const KNOWN_KEYS = new Set<string>(ALERT_CONFIG_KEYS);
+export const KNOWN_KEYS = new Set<string>([...ALERT_CONFIG_KEYS, ...WEBHOOK_CONFIG_KEYS]);
 /**
  * The keys of each section, by its path with list indices as `[]` (`models[]`, `kafka.tls`), so a
  * misspelt key is matched against its own section's keys first.
  */
-export const SECTION_KEYS = new Map<string, ReadonlySet<string>>([['alerts.rules[]', new Set(ALERT_CONFIG_KEYS)]]);
+export const SECTION_KEYS = new Map<string, ReadonlySet<string>>([
+  ['alerts.rules[]', new Set(ALERT_CONFIG_KEYS)],
+  ['alerts.webhook', new Set(WEBHOOK_CONFIG_KEYS)],
+]);
 
 function section<S extends z.ZodRawShape>(at: string, shape: S) {
   for (const key of Object.keys(shape)) KNOWN_KEYS.add(key);
@@ -108,6 +112,10 @@ export const configSchema = section('', {
     rules: alertRulesSchema,
     // Evaluated in event time (the series' newest event), on this wall-clock cadence.
     evaluateEvery: duration.prefault('10s'),
+    // Absent: transitions go to the log only. The token comes from HEADROOM_ALERT_WEBHOOK_TOKEN.
+    webhook: webhookSectionSchema.optional(),
+    // Where notices link to (this watcher's address as the receiver reaches it); null: no link.
+    linkBase: linkBaseSchema,
   }).prefault({}),
   http: section('http', {
     host: name.default('127.0.0.1'),

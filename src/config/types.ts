@@ -5,6 +5,7 @@
  */
 import type { AlertRule } from '../alerts/index.js';
 import type { DecodeLimits } from '../events/index.js';
+import type { WebhookSection } from '../notify/config.js';
 import type { WindowConfig } from '../sketch/index.js';
 import type { Secret } from './secret.js';
 
@@ -83,7 +84,13 @@ export interface HeadroomConfig {
   /** Reload the reference files when they change on disk (SIGHUP reloads them either way), after debounceMs of quiet. */
   readonly referenceReload: { readonly watchFiles: boolean; readonly debounceMs: number };
   /** Alert rules (src/alerts) and how often the watcher evaluates them. */
-  readonly alerts: { readonly rules: readonly AlertRule[]; readonly evaluateEveryMs: number };
+  readonly alerts: {
+    readonly rules: readonly AlertRule[];
+    readonly evaluateEveryMs: number;
+    /** Where transitions are POSTed; null: the log only. */
+    readonly webhook: WebhookSection | null;
+    readonly linkBase: string | null;
+  };
   readonly http: { readonly host: string; readonly port: number };
   readonly decode: DecodeLimits;
 }

@@ -7,9 +7,10 @@
  * file is refused with a message that says so, rather than silently sent or silently ignored.
  */
 import { z } from 'zod';
+import { ENV_VARIABLES } from '../config/env.js';
 import { parseDuration } from '../config/durations.js';
 
-export const WEBHOOK_TOKEN_ENV = 'HEADROOM_ALERT_WEBHOOK_TOKEN';
+export const WEBHOOK_TOKEN_ENV = ENV_VARIABLES.alertWebhookToken;
 
 export const WEBHOOK_DEFAULTS = Object.freeze({
   timeout: '5s',

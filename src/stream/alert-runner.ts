@@ -12,7 +12,7 @@ import { mkdir, readFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import type { Logger } from 'pino';
 import { AlertBook, evaluateAlerts } from '../alerts/index.js';
-import type { AlertRule, AlertSeries, AlertTransition, NamedView } from '../alerts/index.js';
+import type { AlertRule, AlertSeries, AlertTransition, NamedView, Reading } from '../alerts/index.js';
 import type { AlertReport } from '../serve/index.js';
 import { HeadroomError } from '../errors.js';
 import { writeTextAtomically } from '../files/atomic-write.js';
@@ -21,7 +21,8 @@ import { encodeName } from '../state/index.js';
 /** Transitions kept for the API, newest last. */
 const RECENT = 200;
 
-export type TransitionListener = (transition: AlertTransition, rule: AlertRule) => void;
+/** `reading` is the alert's reading at the evaluation that made the transition. */
+export type TransitionListener = (transition: AlertTransition, rule: AlertRule, reading: Reading | null) => void;
 
 export interface AlertRunnerOptions {
   readonly rules: readonly AlertRule[];
@@ -109,7 +110,7 @@ export function createAlertRunner(options: AlertRunnerOptions): AlertRunner {
       const rule = byName.get(t.rule) as AlertRule;
       for (const listener of options.listeners) {
         try {
-          listener(t, rule);
+          listener(t, rule, book.readingOf(t.rule, t.series));
         } catch (error) {
           logger.error({ err: error, rule: t.rule }, 'alert listener failed');
         }

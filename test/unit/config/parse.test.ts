@@ -241,7 +241,7 @@ describe('parseConfig: cross-field checks', () => {
     const { config } = parseConfig(`${MINIMAL}${rules}`, 'headroom.yaml', {});
     expect(config.alerts.evaluateEveryMs).toBe(30_000);
     expect(config.alerts.rules).toEqual([expect.objectContaining({ name: 'line-rise', kind: 'shareRise', segmentKey: 'line', threshold: 0.25, window: '5m', holdMs: 300_000, minCount: 500 })]);
-    expect(parseConfig(MINIMAL, 'headroom.yaml', {}).config.alerts).toEqual({ rules: [], evaluateEveryMs: 10_000 });
+    expect(parseConfig(MINIMAL, 'headroom.yaml', {}).config.alerts).toEqual({ rules: [], evaluateEveryMs: 10_000, webhook: null, linkBase: null });
     expect(problemsOf(`${MINIMAL}alerts: { rules: [{ name: r, kind: shareRise, threshold: 0.3 }] }\n`)).toEqual([
       expect.stringMatching(/^headroom\.yaml: alerts\.rules\[0\]\.threshold: 0\.3 is not among the thresholds of "\*"/),
     ]);
