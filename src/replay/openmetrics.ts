@@ -14,7 +14,7 @@
  * time with its samples in increasing time; timestamps in seconds; `# EOF` last. Rejected lines carry no
  * time, so `headroom_events_rejected_total` is not written (the report's totals hold them).
  */
-import { decimalLabel } from '../serve/index.js';
+import { decimalLabel } from '../serve/options.js';
 import type { ReplayReport, ReportEntry } from './report.js';
 
 interface Family {

@@ -11,7 +11,9 @@
  */
 import type { RejectionReason } from '../events/index.js';
 import type { LoadedReference } from '../reference/index.js';
-import { METRIC_QUANTILE_LEVELS, viewReports } from '../serve/index.js';
+// From the modules themselves, not serve/index.js, which would load prom-client and express.
+import { METRIC_QUANTILE_LEVELS } from '../serve/options.js';
+import { viewReports } from '../serve/report.js';
 import { DEFAULT_QUANTILE_LEVELS } from '../compare/index.js';
 import type { ClosedWindow } from './engine.js';
 
