@@ -12,7 +12,8 @@ import { randomBytes } from 'node:crypto';
 import { mkdir, rename, unlink } from 'node:fs/promises';
 import { basename, dirname, join } from 'node:path';
 import { once } from 'node:events';
-import { Kafka } from 'kafkajs';
+import { Kafka, logLevel } from 'kafkajs';
+import type { logCreator } from 'kafkajs';
 import type { KafkaConfig as KafkajsConfig } from 'kafkajs';
 import { HeadroomError, isHeadroomError } from '../errors.js';
 import { decodeScoredEvent, DEFAULT_DECODE_LIMITS } from '../events/index.js';
@@ -134,7 +135,9 @@ async function readFiles(files: readonly InputFile[], intake: Intake, limits: De
 }
 
 async function readKafka(range: KafkaRange, intake: Intake, limits: DecodeLimits, io: ReplayIo, progressOn: boolean): Promise<Progress> {
-  const kafka = (io.createKafka ?? ((o) => new Kafka(o)))(range.client);
+  // Only kafkajs warnings and errors, one line each on stderr: stdout is for the paths written.
+  const creator: logCreator = () => (entry) => void io.stderr.write(`kafka: ${entry.log.message}${entry.log.error === undefined ? '' : ` (${String(entry.log.error)})`}\n`);
+  const kafka = (io.createKafka ?? ((o) => new Kafka(o)))({ logLevel: logLevel.WARN, logCreator: creator, ...range.client });
   const admin = kafka.admin();
   let progress: Progress | undefined;
   try {
