@@ -117,6 +117,10 @@ export class ReplayEngine {
   /** Earliest time at which some open window could close: skips the check on nearly every event. */
   private nextCloseAt = Infinity;
   private firstEventMs = Infinity;
+  private lastStream: Stream | undefined;
+  private lastStart = Number.NaN;
+  /** The state the last event went to; forgotten whenever a window closes or states are rebuilt. */
+  private lastState: PartitionState | undefined;
 
   constructor(options: ReplayEngineOptions) {
     this.window = options.window ?? TOTAL_WINDOW;
@@ -145,24 +149,25 @@ export class ReplayEngine {
 
   /** One decoded event with its margins, at `offset` (a line number or a Kafka offset) of its stream. */
   apply(stream: string, partition: number, event: ScoredEvent, margins: Margins, offset: string): void {
-    const s = this.stream(stream, partition);
+    // Hot path: consecutive events nearly always share their stream and window, so the last of each is
+    // kept and the string-keyed map lookups (one allocation each) are skipped.
+    let s = this.lastStream;
+    if (s === undefined || s.name !== stream || s.partition !== partition) {
+      s = this.stream(stream, partition);
+      this.lastStream = s;
+      this.lastState = undefined;
+    }
     if (this.discovering) this.discover(event);
     const start = windowStartOf(this.window, event.timeMs);
-    if (start <= this.closedThrough && this.window.lengthMs !== null) {
-      this.afterClose += 1;
-      return;
-    }
-    let open = this.open.get(start);
-    if (open === undefined) {
-      open = { startMs: start, states: new Map() };
-      this.open.set(start, open);
-      if (this.window.lengthMs !== null) this.nextCloseAt = Math.min(this.nextCloseAt, start + this.window.lengthMs + this.latenessMs);
-    }
-    const key = streamKey(s.name, s.partition);
-    let state = open.states.get(key);
+    let state = this.lastState !== undefined && this.lastStart === start ? this.lastState : undefined;
     if (state === undefined) {
-      state = new PartitionState({ topic: s.name, partition: s.partition, models: this.models });
-      open.states.set(key, state);
+      if (start <= this.closedThrough && this.window.lengthMs !== null) {
+        this.afterClose += 1;
+        return;
+      }
+      state = this.stateFor(s, start);
+      this.lastStart = start;
+      this.lastState = state;
     }
     const outcome = state.apply(event, margins, offset, this.nowMs);
     if (outcome === 'duplicate') return;
@@ -205,6 +210,22 @@ export class ReplayEngine {
     return new Map([...this.keysSeen].map(([model, keys]) => [model, [...keys]]));
   }
 
+  private stateFor(s: Stream, start: number): PartitionState {
+    let open = this.open.get(start);
+    if (open === undefined) {
+      open = { startMs: start, states: new Map() };
+      this.open.set(start, open);
+      if (this.window.lengthMs !== null) this.nextCloseAt = Math.min(this.nextCloseAt, start + this.window.lengthMs + this.latenessMs);
+    }
+    const key = streamKey(s.name, s.partition);
+    let state = open.states.get(key);
+    if (state === undefined) {
+      state = new PartitionState({ topic: s.name, partition: s.partition, models: this.models });
+      open.states.set(key, state);
+    }
+    return state;
+  }
+
   private stream(name: string, partition: number): Stream {
     const s = this.streams.get(streamKey(name, partition));
     if (s === undefined) throw argument(`stream ${name}#${partition} was not added`);
@@ -227,6 +248,7 @@ export class ReplayEngine {
     const open = this.open.get(start);
     if (open === undefined) return;
     this.open.delete(start);
+    this.lastState = undefined;
     const states = [...open.states.values()];
     const view = mergeView(states);
     // Of a reported window only its unwatched count is still needed; its buckets go with its states.
@@ -255,6 +277,7 @@ export class ReplayEngine {
     const base = this.models.find((m) => m.name === ANY_MODEL) as ModelSettings;
     const own = [...this.keysSeen].map(([name, seen]): ModelSettings => ({ ...base, name, segmentKeys: [...seen] }));
     this.models = [base, ...own];
+    this.lastState = undefined;
     // Rebuilt through the checkpoint form, which keeps every series and count and adds the new key.
     for (const open of this.open.values()) {
       for (const [key, state] of open.states) {
