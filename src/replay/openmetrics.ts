@@ -14,7 +14,7 @@
  * time with its samples in increasing time; timestamps in seconds; `# EOF` last. Rejected lines carry no
  * time, so `headroom_events_rejected_total` is not written (the report's totals hold them).
  */
-import { decimalLabel } from '../serve/options.js';
+import { decimalLabel, METRIC_QUANTILE_LEVELS } from '../serve/options.js';
 import type { ReplayReport, ReportEntry } from './report.js';
 
 interface Family {
@@ -50,8 +50,12 @@ const FAMILIES: readonly Family[] = [
     name: 'headroom_margin_quantile',
     type: 'gauge',
     help: 'Confidence-margin quantile at the level in the window (from the sketch).',
+    // The levels /metrics exports, not every level of the report: each is a series per window and segment.
     points: (e, window) =>
-      Object.entries(e.quantiles).flatMap(([level, q]) => (q === null ? [] : [[{ ...series(e), window, level: decimalLabel(Number(level)) }, q] as const])),
+      METRIC_QUANTILE_LEVELS.flatMap((level) => {
+        const q = e.quantiles[String(level)];
+        return q === null || q === undefined ? [] : [[{ ...series(e), window, level: decimalLabel(level) }, q] as const];
+      }),
   },
   {
     name: 'headroom_drift_ks',

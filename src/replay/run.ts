@@ -312,8 +312,11 @@ function summaryText(report: ReplayReport, engine: ReplayEngine): string {
   if (t.afterClose > 0) lines.push(`skipped ${t.afterClose} events whose ${report.window} window had already been reported (the input is not in time order; give files oldest first, or use --window total)`);
   if (t.unwatched > 0) lines.push(`skipped ${t.unwatched} events of models the configuration does not name`);
   for (const s of t.skipped) lines.push(`skipped the rest of ${s.source}: ${s.reason}`);
-  const late = report.windows.filter((e) => e.segment === 'all').reduce((n, e) => n + e.late + e.future, 0);
-  if (late > 0) lines.push(`${late} events were later than the lateness allows in their stream, or from the future: counted, not in the figures`);
+  const all = report.windows.filter((e) => e.segment === 'all');
+  const late = all.reduce((n, e) => n + e.late, 0);
+  const future = all.reduce((n, e) => n + e.future, 0);
+  if (late > 0) lines.push(`${late} events came later than the lateness allows behind their stream's newest event: counted as late, not in the figures`);
+  if (future > 0) lines.push(`${future} events are dated ahead of this machine's clock by more than maxFuture: counted as from the future, not in the figures`);
   const keys = engine.discoveredKeys();
   if (keys.size > 0) lines.push(`segment keys found: ${[...keys].map(([m, k]) => `${m}: ${k.length === 0 ? '(none)' : k.join(', ')}`).join('; ')}`);
   return `${lines.join('\n')}\n`;
