@@ -17,6 +17,7 @@ import { loadConfig } from '../../src/config/index.js';
 import { decodeScoredEvent } from '../../src/events/index.js';
 import type { ScoredEvent } from '../../src/events/index.js';
 import { buildReference, formatReference } from '../../src/reference/index.js';
+import { planRange, readRange } from '../../src/replay/index.js';
 import type { ReplayReport } from '../../src/replay/index.js';
 import { FileCheckpointStore } from '../../src/state/index.js';
 import { createWatcher } from '../../src/stream/index.js';
@@ -170,5 +171,26 @@ describe('the same events through watch and through replay', () => {
     expect(report.totals.events).toBe(500);
     expect(report.windows.filter((e) => e.segment === 'all').reduce((n, e) => n + e.count, 0)).toBe(500);
     expect(err.join('')).toContain('500 messages in range over 2 partitions');
+  });
+  it('stops at the end offsets the partitions had when the replay began, however many messages follow', async () => {
+    const growing = uniqueName('replay-growing-events');
+    await admin.createTopics({ topics: [{ topic: growing, numPartitions: 2, replicationFactor: 1 }], waitForLeaders: true });
+    const wire = (prefix: string, n: number) =>
+      makeScoredEvents({ n, seed: 31, fromMs: Date.now() - 60_000, spanMs: 30_000, idPrefix: prefix, thresholds: THRESHOLDS }).map((e, i) => ({ key: `k${i % 5}`, value: e.wire }));
+    await producer.send({ topic: growing, messages: wire('first', 400) });
+    const ranges = await planRange(admin, growing, Date.now() - 3_600_000, Date.now() + 3_600_000);
+    expect(ranges.reduce((n, r) => n + Number(BigInt(r.end) - BigInt(r.start)), 0)).toBe(400);
+    // Produced after the plan, with timestamps inside the range: a replay that read to the live end would count them.
+    await producer.send({ topic: growing, messages: wire('second', 300) });
+    const read: string[] = [];
+    const done: number[] = [];
+    await readRange(kafka, admin, growing, ranges, {
+      onMessage: (_partition, message) => read.push(String(message.value)),
+      onPartitionDone: (partition) => done.push(partition),
+    });
+    expect(read).toHaveLength(400);
+    expect(read.every((v) => v.includes('"id":"first-'))).toBe(true);
+    expect(new Set(read).size).toBe(400);
+    expect(done.sort()).toEqual([0, 1]);
   });
 });

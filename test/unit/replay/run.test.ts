@@ -8,6 +8,7 @@ import { join } from 'node:path';
 import { gzipSync } from 'node:zlib';
 import { afterAll, describe, expect, it } from 'vitest';
 import { buildReference, formatReference, parseReferenceText } from '../../../src/reference/index.js';
+import { parseReplayOptions, runReplayCommand } from '../../../src/cli/replay-command.js';
 import { parseReplayWindow, runReplay, TOTAL_WINDOW } from '../../../src/replay/index.js';
 import type { ReplayReport } from '../../../src/replay/index.js';
 import { decodeScoredEvent } from '../../../src/events/index.js';
@@ -156,5 +157,27 @@ describe('replay of files', () => {
     expect(loaded.n).toBe(900);
     expect([...loaded.segments.keys()].sort()).toEqual(['all', 'line=1', 'line=2', 'line=3']);
     expect(loaded.file.source).toMatch(/^replay of 1 file/);
+  });
+  it('takes models, thresholds, segment keys and references from a watch config, and counts unwatched models', async () => {
+    const input = join(dir, 'configured.jsonl');
+    const other = JSON.stringify({ id: 'o-1', model: 'label-reader', version: 'v12', time: new Date(T0).toISOString(), score: { kind: 'logit', z: 1 } });
+    writeFileSync(input, `${[...made.slice(0, 1_800).map((m) => m.wire), other].join('\n')}\n`);
+    const configPath = join(dir, 'watch.yaml');
+    writeFileSync(
+      configPath,
+      JSON.stringify({
+        kafka: { brokers: ['127.0.0.1:9092'], topics: ['parcel-scores'] },
+        models: [{ name: 'parcel-damage', thresholds: [0.3], segmentKeys: [], reference: refPath }],
+      }),
+    );
+    const out = join(dir, 'configured-out');
+    const { io: replayIo } = io();
+    await runReplayCommand(parseReplayOptions({ input: [input], config: configPath, window: 'total', out, progress: false }), replayIo, {});
+    const report = readReport(out);
+    // Only `all`: the config names no segment key; only θ = 0.3; label-reader is not configured.
+    expect(report.windows.map((w) => [w.model, w.segment, w.count])).toEqual([['parcel-damage', 'all', 1_800]]);
+    expect(report.windows[0]?.lowMargin.map((l) => l.threshold)).toEqual([0.3]);
+    expect(report.windows[0]?.reference).toBe('loaded');
+    expect(report.totals.unwatched).toBe(1);
   });
 });
