@@ -57,7 +57,7 @@ export interface ReplayEngineOptions {
 }
 
 export interface EngineCounts {
-  /** Events applied to a window (late and future included, as the watcher counts them). */
+  /** Events applied to a window's series (late and future included, as the watcher counts them; unwatched not). */
   readonly events: number;
   /** Events for a window that had already been reported. */
   readonly afterClose: number;
@@ -170,7 +170,7 @@ export class ReplayEngine {
       this.lastState = state;
     }
     const outcome = state.apply(event, margins, offset, this.nowMs);
-    if (outcome === 'duplicate') return;
+    if (outcome === 'duplicate' || outcome === 'unwatched') return; // the state counts unwatched ones
     this.events += 1;
     if (outcome !== 'added') return;
     if (event.timeMs < this.firstEventMs) this.firstEventMs = event.timeMs;

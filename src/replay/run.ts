@@ -79,7 +79,8 @@ class Intake {
 
   constructor(
     readonly engine: ReplayEngine,
-    private readonly progress: Progress,
+    /** Set by the source once it knows the size of its input (Kafka: after the offsets are looked up). */
+    public progress: Progress,
     private readonly emit: { createdAt: string; source: string; keysOf: (event: ScoredEvent) => readonly string[]; thresholdsOf: (model: string) => readonly number[] } | undefined,
   ) {}
 
@@ -147,6 +148,7 @@ async function readKafka(range: KafkaRange, intake: Intake, limits: DecodeLimits
     io.stderr.write(`${range.topic}: ${total} messages in range over ${ranges.length} partitions (${ranges.map((r) => `${r.partition}: ${r.start}..${r.end}`).join(', ')})\n`);
     progress = createProgress('replaying', total, io.stderr, progressOn, { formatAmount: (n) => `${n} messages`, minTotal: 100_000, clockMs: io.nowMs });
     const p = progress;
+    intake.progress = p;
     for (const r of ranges) intake.engine.addStream(range.topic, r.partition);
     const empty = new Uint8Array(0);
     await readRange(kafka, admin, range.topic, ranges, {
@@ -242,11 +244,8 @@ export async function runReplay(options: ReplayOptions, io: ReplayIo): Promise<R
   let intake: Intake;
   const emit = options.emitReference === undefined ? undefined : { createdAt, source: `replay of ${source}`, keysOf, thresholdsOf };
   if (options.kafka !== undefined) {
-    // The Kafka path makes its progress once it knows how many messages the range holds.
-    const late: { p: Progress } = { p: { add: () => {}, count: () => {}, stop: () => {} } };
-    intake = new Intake(engine, { add: () => {}, count: (n) => late.p.count(n), stop: () => {} }, emit);
-    late.p = await readKafka(options.kafka, intake, limits, io, options.progress);
-    progress = late.p;
+    intake = new Intake(engine, { add: () => {}, count: () => {}, stop: () => {} }, emit);
+    progress = await readKafka(options.kafka, intake, limits, io, options.progress);
   } else {
     progress = createProgress('replaying', files.reduce((n, f) => n + f.bytes, 0), io.stderr, options.progress, { clockMs: io.nowMs });
     intake = new Intake(engine, progress, emit);

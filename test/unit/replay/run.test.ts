@@ -179,5 +179,6 @@ describe('replay of files', () => {
     expect(report.windows[0]?.lowMargin.map((l) => l.threshold)).toEqual([0.3]);
     expect(report.windows[0]?.reference).toBe('loaded');
     expect(report.totals.unwatched).toBe(1);
+    expect(report.totals).toMatchObject({ lines: 1_801, events: 1_800 });
   });
 });
