@@ -272,6 +272,10 @@ export async function runReplay(options: ReplayOptions, io: ReplayIo): Promise<R
   return { report, written };
 }
 
+/**
+ * Every file of the report from the one ReplayReport object. The HTML report (a later piece) belongs here
+ * too, as one more writer taking `report` as it is: it needs nothing the model does not hold.
+ */
 async function writeReport(report: ReplayReport, options: ReplayOptions, io: ReplayIo): Promise<string[]> {
   try {
     await mkdir(options.out, { recursive: true });
