@@ -7,6 +7,7 @@ import { Command, CommanderError } from 'commander';
 import { exitCodeOf, isHeadroomError } from '../errors.js';
 import { registerReferenceCommand } from './reference-command.js';
 import { registerPlannedCommands } from './planned-commands.js';
+import { registerReplayCommand } from './replay-command.js';
 import { registerWatchCommand } from './watch-command.js';
 
 export function buildProgram(): Command {
@@ -19,6 +20,7 @@ export function buildProgram(): Command {
     .exitOverride();
   registerWatchCommand(program);
   registerReferenceCommand(program);
+  registerReplayCommand(program);
   registerPlannedCommands(program);
   return program;
 }

@@ -6,7 +6,6 @@ import type { Command } from 'commander';
 import { HeadroomError } from '../errors.js';
 
 const PLANNED: ReadonlyArray<{ name: string; summary: string }> = [
-  { name: 'replay', summary: 'backfill comparisons from logged events (files or a Kafka time range) into reports' },
   { name: 'demo', summary: 'the embedded parcel-inspection scenario with the live page; no broker needed' },
 ];
 

@@ -11,6 +11,6 @@ export { readScoredEvents } from './read.js';
 export type { ReadOptions, SourceItem } from './read.js';
 export { loadReferenceFile } from './reference-file.js';
 export { formatRejectionSummary, RejectionTally, SOURCE_REJECTION_REASONS, sourceRejection } from './rejections.js';
-export { createProgress, formatBytes, PROGRESS_MIN_BYTES } from './progress.js';
-export type { Progress, ProgressOutput } from './progress.js';
+export { createProgress, formatBytes, formatRate, PROGRESS_MIN_BYTES } from './progress.js';
+export type { Progress, ProgressOptions, ProgressOutput } from './progress.js';
 export type { LineRejection, LineRejectionReason, RejectionSummaryRow, SourceRejection, SourceRejectionReason } from './rejections.js';

@@ -13,13 +13,24 @@ export interface ProgressOutput {
 
 export interface Progress {
   add(bytes: number): void;
+  /** Events processed, for the rate shown beside the bar (only with ProgressOptions.clockMs). */
+  count(events: number): void;
   stop(): void;
+}
+
+export interface ProgressOptions {
+  /** How amounts are written (default formatBytes); e.g. messages for a Kafka range. */
+  readonly formatAmount?: (n: number) => string;
+  /** Below this total nothing is shown; default PROGRESS_MIN_BYTES. */
+  readonly minTotal?: number;
+  /** A clock (ms) to show the rate of counted events; without one no rate is shown. */
+  readonly clockMs?: () => number;
 }
 
 /** Below this, no progress is shown. */
 export const PROGRESS_MIN_BYTES = 16 * 1024 * 1024;
 
-const NO_PROGRESS: Progress = { add: () => {}, stop: () => {} };
+const NO_PROGRESS: Progress = { add: () => {}, count: () => {}, stop: () => {} };
 
 export function formatBytes(bytes: number): string {
   if (bytes < 1024) return `${bytes} B`;
@@ -28,26 +39,41 @@ export function formatBytes(bytes: number): string {
   return `${(bytes / 1024 ** 3).toFixed(2)} GiB`;
 }
 
-export function createProgress(label: string, totalBytes: number, output: ProgressOutput, enabled = true): Progress {
-  if (!enabled || totalBytes < PROGRESS_MIN_BYTES) return NO_PROGRESS;
+export function formatRate(perSecond: number): string {
+  if (!Number.isFinite(perSecond)) return '-';
+  if (perSecond >= 1e6) return `${(perSecond / 1e6).toFixed(2)}M`;
+  if (perSecond >= 1e3) return `${(perSecond / 1e3).toFixed(1)}k`;
+  return perSecond.toFixed(0);
+}
+
+export function createProgress(label: string, totalBytes: number, output: ProgressOutput, enabled = true, options: ProgressOptions = {}): Progress {
+  if (!enabled || totalBytes < (options.minTotal ?? PROGRESS_MIN_BYTES)) return NO_PROGRESS;
+  const formatAmount = options.formatAmount ?? formatBytes;
+  const clock = options.clockMs;
+  const began = clock?.() ?? 0;
+  let events = 0;
+  const rate = (): string => (clock === undefined ? '' : ` | ${formatRate(events / Math.max(0.001, (clock() - began) / 1000))} events/s`);
   let read = 0;
   if (output.isTTY === true) {
     const bar = new cliProgress.SingleBar(
       {
         // cli-progress writes to any stream with write(); this one is the caller's stderr.
         stream: output as unknown as NodeJS.WritableStream,
-        format: `${label} |{bar}| {percentage}% | {done} of {size} | eta {eta_formatted}`,
+        format: `${label} |{bar}| {percentage}% | {done} of {size}{rate} | eta {eta_formatted}`,
         hideCursor: true,
         clearOnComplete: false,
       },
       cliProgress.Presets.shades_classic,
     );
-    const size = formatBytes(totalBytes);
-    bar.start(totalBytes, 0, { done: formatBytes(0), size });
+    const size = formatAmount(totalBytes);
+    bar.start(totalBytes, 0, { done: formatAmount(0), size, rate: rate() });
     return {
       add: (bytes) => {
         read += bytes;
-        bar.update(Math.min(read, totalBytes), { done: formatBytes(read), size });
+        bar.update(Math.min(read, totalBytes), { done: formatAmount(read), size, rate: rate() });
+      },
+      count: (n) => {
+        events += n;
       },
       stop: () => bar.stop(),
     };
@@ -59,8 +85,11 @@ export function createProgress(label: string, totalBytes: number, output: Progre
       const tenths = Math.min(10, Math.floor((read / totalBytes) * 10));
       if (tenths > tenthsShown) {
         tenthsShown = tenths;
-        output.write(`${label}: ${tenths * 10}% (${formatBytes(read)} of ${formatBytes(totalBytes)})\n`);
+        output.write(`${label}: ${tenths * 10}% (${formatAmount(read)} of ${formatAmount(totalBytes)}${rate().replace(' | ', ', ')})\n`);
       }
+    },
+    count: (n) => {
+      events += n;
     },
     stop: () => {},
   };

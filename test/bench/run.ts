@@ -14,6 +14,7 @@ const BENCHES: ReadonlyArray<{ file: string; title: string; args?: string[] }> =
   { file: 'sketch-memory.ts', title: 'bytes held per series for 24 h at 1,000 events/s' },
   { file: 'alert-simulation.ts', title: 'alerts: CUSUM (event by event and bucket feed) vs fixed-window threshold, false alarms and delay' },
   { file: 'watch-e2e.ts', title: 'headroom watch end to end on a real broker vs a bare kafkajs eachBatch + JSON.parse consumer' },
+  { file: 'replay.ts', title: 'headroom replay of a 1e6-event .gz JSONL file vs a raw gunzip + line split of the same file' },
 ];
 
 const only = process.argv.slice(2).filter((a) => !a.startsWith('-'));

@@ -30,6 +30,8 @@ export interface RunningPrometheus {
   readonly url: string;
   /** GET /api/v1/query; throws unless Prometheus answers status "success". */
   query(expr: string, timeSeconds?: number): Promise<PromVectorResult[]>;
+  /** GET /api/v1/query_range (times in seconds); throws unless Prometheus answers status "success". */
+  queryRange(expr: string, startSeconds: number, endSeconds: number, stepSeconds: number): Promise<PromMatrixResult[]>;
   /** Polls until `accept` holds for the query's answer, or throws with the last answer. */
   waitFor(expr: string, accept: (result: PromVectorResult[]) => boolean, timeoutMs?: number): Promise<PromVectorResult[]>;
   stop(): Promise<void>;
@@ -40,6 +42,11 @@ export interface PromVectorResult {
   readonly value: [number, string];
 }
 
+export interface PromMatrixResult {
+  readonly metric: Record<string, string>;
+  readonly values: [number, string][];
+}
+
 const sleep = (ms: number): Promise<void> => new Promise((resolve) => setTimeout(resolve, ms));
 
 export interface PrometheusOptions {
@@ -47,6 +54,11 @@ export interface PrometheusOptions {
   readonly extraArgs?: string[];
   /** Rule files to load (`rule_files`), evaluated every scrape interval; absolute paths. */
   readonly ruleFiles?: readonly string[];
+  /**
+   * Start on this TSDB directory (e.g. blocks made by `promtool tsdb create-blocks-from`) instead of an
+   * empty temp one; it is the caller's, and is left in place at stop().
+   */
+  readonly dataDir?: string;
 }
 
 export async function startPrometheus(targets: readonly ScrapeTarget[], options: PrometheusOptions = {}): Promise<RunningPrometheus> {
@@ -59,11 +71,11 @@ export async function startPrometheus(targets: readonly ScrapeTarget[], options:
   const ruleFiles = (options.ruleFiles ?? []).map((f) => `  - ${JSON.stringify(f)}`).join('\n');
   writeFileSync(
     join(dir, 'prometheus.yml'),
-    `global:\n  scrape_interval: ${interval}s\n  evaluation_interval: ${interval}s\n${ruleFiles === '' ? '' : `rule_files:\n${ruleFiles}\n`}scrape_configs:\n${scrapeConfigs}\n`,
+    `global:\n  scrape_interval: ${interval}s\n  evaluation_interval: ${interval}s\n${ruleFiles === '' ? '' : `rule_files:\n${ruleFiles}\n`}scrape_configs:${targets.length === 0 ? ' []' : `\n${scrapeConfigs}`}\n`,
   );
   const child = spawn(
     'prometheus',
-    [`--config.file=${join(dir, 'prometheus.yml')}`, `--storage.tsdb.path=${join(dir, 'data')}`, `--web.listen-address=127.0.0.1:${port}`, ...(options.extraArgs ?? [])],
+    [`--config.file=${join(dir, 'prometheus.yml')}`, `--storage.tsdb.path=${options.dataDir ?? join(dir, 'data')}`, `--web.listen-address=127.0.0.1:${port}`, ...(options.extraArgs ?? [])],
     { stdio: ['ignore', 'ignore', 'pipe'] },
   );
   let stderr = '';
@@ -98,6 +110,14 @@ export async function startPrometheus(targets: readonly ScrapeTarget[], options:
     return body.data.result;
   };
 
+  const queryRange = async (expr: string, startSeconds: number, endSeconds: number, stepSeconds: number): Promise<PromMatrixResult[]> => {
+    const params = new URLSearchParams({ query: expr, start: String(startSeconds), end: String(endSeconds), step: String(stepSeconds) });
+    const response = await fetch(`${url}/api/v1/query_range?${params.toString()}`);
+    const body = (await response.json()) as { status: string; error?: string; data?: { resultType: string; result: PromMatrixResult[] } };
+    if (body.status !== 'success' || !body.data) throw new Error(`Prometheus range query ${expr} failed: ${body.error ?? response.status}`);
+    return body.data.result;
+  };
+
   const waitFor = async (expr: string, accept: (result: PromVectorResult[]) => boolean, timeoutMs = 30_000): Promise<PromVectorResult[]> => {
     const deadline = performance.now() + timeoutMs;
     let last: PromVectorResult[] = [];
@@ -112,7 +132,7 @@ export async function startPrometheus(targets: readonly ScrapeTarget[], options:
   const deadline = performance.now() + 30_000;
   while (performance.now() < deadline && !exited) {
     try {
-      if ((await fetch(`${url}/-/ready`)).ok) return { url, query, waitFor, stop };
+      if ((await fetch(`${url}/-/ready`)).ok) return { url, query, queryRange, waitFor, stop };
     } catch {
       // not listening yet
     }

@@ -34,4 +34,14 @@ describe('progress', () => {
     expect(formatBytes(1536)).toBe('1.5 KiB');
     expect(formatBytes(5 * 1024 ** 3)).toBe('5.00 GiB');
   });
+  it('adds the event rate to each plain line when given a clock, and writes amounts as told', () => {
+    const { written, output } = sink(false);
+    let now = 0;
+    const progress = createProgress('replaying', 1_000, output, true, { minTotal: 100, formatAmount: (n) => `${n} messages`, clockMs: () => now });
+    now = 2_000;
+    progress.count(5_000);
+    progress.add(500);
+    progress.stop();
+    expect(written).toEqual(['replaying: 50% (500 messages of 1000 messages, 2.5k events/s)\n']);
+  });
 });

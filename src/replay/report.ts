@@ -1,0 +1,160 @@
+/**
+ * The report model of a replay (`headroom-report/1`): one entry per window and series, with the figures
+ * the watcher's API and /metrics compute for a view (src/serve/report.ts viewReports, the same function),
+ * so a replayed window and a live view of the same events say the same thing. Pure: no clock, no I/O.
+ *
+ * This object is what every writer takes: report.json is it as JSON, report.csv and metrics.om are
+ * written from it, and the HTML report (a later piece) is meant to take it as it is.
+ *
+ * Alerts: each entry has `alerts`, filled by an AlertEvaluator given one series' entries in time order.
+ * src/alerts is being built apart; until it lands the evaluator is `noAlerts` and every list is empty.
+ */
+import type { RejectionReason } from '../events/index.js';
+import type { LoadedReference } from '../reference/index.js';
+// From the modules themselves, not serve/index.js, which would load prom-client and express.
+import { METRIC_QUANTILE_LEVELS } from '../serve/options.js';
+import { viewReports } from '../serve/report.js';
+import { DEFAULT_QUANTILE_LEVELS } from '../compare/index.js';
+import type { ClosedWindow } from './engine.js';
+
+export const REPORT_FORMAT = 'headroom-report/1';
+
+/** Levels of every entry's `quantiles`: the comparisons' defaults plus the ones /metrics exports. */
+export const REPORT_QUANTILE_LEVELS: readonly number[] = Object.freeze(
+  [...new Set([...DEFAULT_QUANTILE_LEVELS, ...METRIC_QUANTILE_LEVELS])].sort((a, b) => a - b),
+);
+
+export interface LowMarginEntry {
+  readonly threshold: number;
+  /** Exact share of the window's events with confidence margin < threshold; null for an empty window. */
+  readonly live: number | null;
+  /** The reference's stored share at this threshold; null without a reference (or that θ in it). */
+  readonly reference: number | null;
+  /** Wilson 95% interval of `live`. */
+  readonly interval: readonly [number, number];
+}
+
+export interface AlertEntry {
+  /** The rule's name. */
+  readonly rule: string;
+  readonly state: string;
+  readonly detail?: string;
+}
+
+export interface ReportEntry {
+  /** ISO-8601, UTC; `end` is exclusive. */
+  readonly start: string;
+  readonly end: string;
+  readonly model: string;
+  readonly version: string;
+  /** `all`, or `key=value` (one key at a time), as the watcher names series. */
+  readonly segment: string;
+  /** Events in the window's view (the ones added to its buckets). */
+  readonly count: number;
+  /** Events of this series in the window refused as later than the lateness allows, or from the future. */
+  readonly late: number;
+  readonly future: number;
+  /** `loaded` when the series was compared with a reference (its segment's own or the version's `all`). */
+  readonly reference: 'loaded' | 'none';
+  readonly lowMargin: readonly LowMarginEntry[];
+  /** null without a reference or with an empty side. */
+  readonly ks: { readonly statistic: number; readonly pValue: number | null } | null;
+  readonly psi: number | null;
+  readonly wasserstein: number | null;
+  /** Live confidence-margin quantiles by level ("0.05": ...); null when the window is empty. */
+  readonly quantiles: Readonly<Record<string, number | null>>;
+  readonly alerts: readonly AlertEntry[];
+}
+
+export interface ReportTotals {
+  /** Lines read from files (or messages read from Kafka). */
+  readonly lines: number;
+  /** Events applied to a window. */
+  readonly events: number;
+  /** Lines turned away, by reason (the codes of headroom_events_rejected_total). */
+  readonly rejected: Readonly<Partial<Record<RejectionReason, number>>>;
+  /** Events for a window already reported (input not in time order). */
+  readonly afterClose: number;
+  /** Events of models without settings in the configuration. */
+  readonly unwatched: number;
+  /** Files (or partitions) that ended early, with what was lost. */
+  readonly skipped: readonly { readonly source: string; readonly reason: string }[];
+}
+
+export interface ReplayReport {
+  readonly format: typeof REPORT_FORMAT;
+  /** When the replay ran (ISO-8601). */
+  readonly createdAt: string;
+  /** What was replayed, in words (files, or topic and time range). */
+  readonly source: string;
+  /** `1h`, `1d`, ... or `total`. */
+  readonly window: string;
+  readonly totals: ReportTotals;
+  /** By start, then model, version and segment. */
+  readonly windows: readonly ReportEntry[];
+}
+
+/** Finds the reference of a model version; undefined when none was given. */
+export type ReferenceLookup = (model: string, version: string) => LoadedReference | undefined;
+
+/** The seam for src/alerts: one series' entries in time order in, the alerts of each entry out (same order). */
+export type AlertEvaluator = (series: readonly ReportEntry[]) => readonly (readonly AlertEntry[])[];
+
+export const noAlerts: AlertEvaluator = (series) => series.map(() => []);
+
+export function referenceLookup(references: readonly LoadedReference[]): ReferenceLookup {
+  const byKey = new Map(references.map((r) => [`${r.model}\u0000${r.version}`, r]));
+  return (model, version) => byKey.get(`${model}\u0000${version}`);
+}
+
+/** The entries of one closed window, one per series, sorted as mergeView sorts (model, version, segment). */
+export function windowEntries(closed: ClosedWindow, windowName: string, references: ReferenceLookup): ReportEntry[] {
+  const spec = { name: windowName, durationMs: closed.viewMs };
+  const start = new Date(closed.startMs).toISOString();
+  const end = new Date(closed.endMs).toISOString();
+  return closed.view.series.map((s) => {
+    const reference = references(s.model, s.version)?.segmentFor(s.segment);
+    const [v] = viewReports({ model: s.model, version: s.version, segment: s.segment, events: s.events, windows: s.windows, reference }, [spec], REPORT_QUANTILE_LEVELS);
+    if (v === undefined) throw new RangeError(`view ${closed.viewMs} ms is longer than the series keeps`);
+    const counters = s.windows.counters();
+    const quantiles: Record<string, number | null> = {};
+    for (const q of v.quantiles) quantiles[String(q.q)] = q.live;
+    return {
+      start,
+      end,
+      model: s.model,
+      version: s.version,
+      segment: s.segment,
+      count: v.summary.count,
+      late: counters.late,
+      future: counters.future,
+      reference: reference === undefined ? 'none' : 'loaded',
+      lowMargin: v.lowMargin.map((l) => ({ threshold: l.threshold, live: l.live.share, reference: l.referenceShare, interval: [l.live.lower, l.live.upper] as const })),
+      ks: v.drift === null ? null : { statistic: v.drift.ks.statistic, pValue: v.drift.ks.pValue },
+      psi: v.drift?.psi.value ?? null,
+      wasserstein: v.drift?.wasserstein ?? null,
+      quantiles,
+      alerts: [],
+    };
+  });
+}
+
+function seriesKey(e: ReportEntry): string {
+  return `${e.model}\u0000${e.version}\u0000${e.segment}`;
+}
+
+/** Fills every entry's alerts, asking `evaluate` once per series with that series' entries in time order. */
+export function withAlerts(entries: readonly ReportEntry[], evaluate: AlertEvaluator): ReportEntry[] {
+  const bySeries = new Map<string, number[]>();
+  entries.forEach((e, i) => {
+    const list = bySeries.get(seriesKey(e));
+    if (list === undefined) bySeries.set(seriesKey(e), [i]);
+    else list.push(i);
+  });
+  const out = [...entries];
+  for (const indexes of bySeries.values()) {
+    const alerts = evaluate(indexes.map((i) => entries[i] as ReportEntry));
+    indexes.forEach((i, k) => (out[i] = { ...(entries[i] as ReportEntry), alerts: alerts[k] ?? [] }));
+  }
+  return out;
+}
