@@ -29,6 +29,7 @@ export default tseslint.config(
       'src/notify/config.ts',
       // src/replay's pure parts; run.ts and kafka-range.ts are its I/O edge.
       'src/replay/engine.ts',
+      'src/replay/alerts.ts',
       'src/replay/report.ts',
       'src/replay/openmetrics.ts',
       'src/replay/csv.ts',

@@ -7,7 +7,7 @@ import type { Command } from 'commander';
 import { ENV_VARIABLES, kafkaClientOptions, loadConfig, parseDuration, readTlsMaterial } from '../config/index.js';
 import type { Env } from '../config/index.js';
 import { HeadroomError } from '../errors.js';
-import { parseReplayWindow, runReplay } from '../replay/index.js';
+import { parseReplayWindow, ruleAlerts, runReplay } from '../replay/index.js';
 import type { ReplayIo, ReplayOptions } from '../replay/index.js';
 import { parseThresholds } from './reference-command.js';
 
@@ -149,6 +149,7 @@ export async function runReplayCommand(options: ReplayCommandOptions, io: Replay
       limits: config?.decode,
       progress: options.progress,
       metricsStepMs: options.metricsStepMs,
+      ...(config === undefined || config.alerts.rules.length === 0 ? {} : { alerts: ruleAlerts(config.alerts.rules) }),
     },
     io,
   );

@@ -5,6 +5,7 @@ export { reportCsv } from './csv.js';
 export { planRange, readRange } from './kafka-range.js';
 export type { PartitionRange, RangeReader } from './kafka-range.js';
 export { openMetricsLines } from './openmetrics.js';
+export { ruleAlerts } from './alerts.js';
 export { noAlerts, referenceLookup, REPORT_FORMAT, REPORT_QUANTILE_LEVELS, windowEntries, withAlerts } from './report.js';
 export type { AlertEntry, AlertEvaluator, LowMarginEntry, ReferenceLookup, ReplayReport, ReportEntry, ReportTotals } from './report.js';
 export { runReplay } from './run.js';

@@ -6,8 +6,8 @@
  * This object is what every writer takes: report.json is it as JSON, report.csv and metrics.om are
  * written from it, and the HTML report (a later piece) is meant to take it as it is.
  *
- * Alerts: each entry has `alerts`, filled by an AlertEvaluator given one series' entries in time order.
- * src/alerts is being built apart; until it lands the evaluator is `noAlerts` and every list is empty.
+ * Alerts: each entry has `alerts`, filled by an AlertEvaluator given one series' entries in time order:
+ * ruleAlerts (alerts.ts) with a watch configuration's rules, else `noAlerts` and every list is empty.
  */
 import type { RejectionReason } from '../events/index.js';
 import type { LoadedReference } from '../reference/index.js';
