@@ -63,7 +63,7 @@ dl.facts dd { margin: 0; overflow-wrap: anywhere; }
 section.card { background: var(--card); border: 1px solid var(--rule); border-radius: 8px; padding: 16px 18px; margin: 0 0 18px; }
 p.what { color: var(--muted); font-size: 14px; margin: 0 0 8px; max-width: 80ch; }
 .picker { display: flex; gap: 10px; align-items: center; flex-wrap: wrap; margin-bottom: 10px; }
-.picker select { font: inherit; padding: 4px 6px; max-width: 100%; }
+.picker select { font: inherit; padding: 4px 6px; max-width: min(100%, 40em); text-overflow: ellipsis; }
 ul.key { list-style: none; display: flex; flex-wrap: wrap; gap: 4px 18px; padding: 0; margin: 6px 0 0; font-size: 13px; color: var(--muted); }
 ul.key li { display: flex; align-items: center; gap: 6px; }
 ul.key .swatch { display: inline-block; width: 26px; height: 0; border-top: 3px solid; }

@@ -19,9 +19,9 @@ export const CHROMIUM_ARGS: readonly string[] = ['--headless', '--no-sandbox', '
 export const ARTIFACTS_DIR = resolve(dirname(fileURLToPath(import.meta.url)), '../../test-artifacts');
 
 /** For a vitest global setup: true when Chromium is there; false (and a log line) when not; throws under CI. */
-export function chromiumGuard(log: (line: string) => void, env: NodeJS.ProcessEnv = process.env): boolean {
-  if (existsSync(CHROMIUM_PATH)) return true;
-  const message = `${CHROMIUM_PATH} not found (Debian package chromium: apt-get install --no-install-recommends chromium)`;
+export function chromiumGuard(log: (line: string) => void, env: NodeJS.ProcessEnv = process.env, path = CHROMIUM_PATH): boolean {
+  if (existsSync(path)) return true;
+  const message = `${path} not found (Debian package chromium: apt-get install --no-install-recommends chromium)`;
   if (env.CI === 'true' || env.CI === '1') throw new HeadroomError('HR_ERR_HARNESS_CHROMIUM_UNAVAILABLE', `${message}; under CI this is a failure, not a skip`);
   log(`${message}: the tests that need a browser will be skipped`);
   return false;
