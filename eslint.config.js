@@ -33,6 +33,9 @@ export default tseslint.config(
       'src/replay/report.ts',
       'src/replay/openmetrics.ts',
       'src/replay/csv.ts',
+      'src/replay/cdf.ts',
+      'src/replay/html.ts',
+      'src/replay/html-script.ts',
       'src/replay/window-spec.ts',
     ],
     rules: {

@@ -1,7 +1,8 @@
 import { defineConfig } from 'vitest/config';
 
-// Two projects: `unit` is the pure core (no broker, no Prometheus, no browser);
-// `integration` gets real services from the global setup in test/harness/global-setup.ts.
+// Three projects: `unit` is the pure core (no broker, no Prometheus, no browser);
+// `integration` gets real services from the global setup in test/harness/global-setup.ts;
+// `e2e` opens pages in a real headless Chromium (test/harness/browser.ts), without a broker.
 export default defineConfig({
   test: {
     projects: [
@@ -20,6 +21,17 @@ export default defineConfig({
           globalSetup: ['test/harness/global-setup.ts'],
           testTimeout: 120_000,
           hookTimeout: 180_000,
+          fileParallelism: false,
+        },
+      },
+      {
+        test: {
+          name: 'e2e',
+          include: ['test/e2e/**/*.test.ts'],
+          environment: 'node',
+          globalSetup: ['test/harness/browser-setup.ts'],
+          testTimeout: 120_000,
+          hookTimeout: 120_000,
           fileParallelism: false,
         },
       },

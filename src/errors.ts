@@ -31,6 +31,7 @@ export const ERROR_CODES = {
   HR_ERR_HARNESS_KAFKA_UNAVAILABLE: { message: 'no Kafka broker could be had', retriable: false, httpStatus: 503, exitCode: 69 },
   HR_ERR_HARNESS_KAFKA_START: { message: 'the local Kafka broker did not start', retriable: true, httpStatus: 503, exitCode: 69 },
   HR_ERR_HARNESS_PROMETHEUS_UNAVAILABLE: { message: 'prometheus or promtool is missing', retriable: false, httpStatus: 503, exitCode: 69 },
+  HR_ERR_HARNESS_CHROMIUM_UNAVAILABLE: { message: 'chromium is missing', retriable: false, httpStatus: 503, exitCode: 69 },
   HR_ERR_API_NOT_FOUND: { message: 'no such resource', retriable: false, httpStatus: 404, exitCode: 66 },
   HR_ERR_API_BAD_PARAMETER: { message: 'bad request parameter', retriable: false, httpStatus: 400, exitCode: 64 },
   HR_ERR_API_INTERNAL: { message: 'the server failed to answer', retriable: true, httpStatus: 500, exitCode: 70 },
@@ -46,6 +47,7 @@ export const ERROR_CODES = {
   HR_ERR_WATCH_CONSUMER_CRASHED: { message: 'the Kafka consumer stopped and will not restart', retriable: true, httpStatus: 503, exitCode: 69 },
   HR_ERR_WATCH_SHUTDOWN: { message: 'shutdown did not finish cleanly', retriable: false, httpStatus: 500, exitCode: 1 },
   HR_ERR_REPLAY_ARGUMENT: { message: 'replay argument is out of range', retriable: false, httpStatus: 400, exitCode: 70 },
+  HR_ERR_REPLAY_CHART_LIBRARY: { message: 'the HTML report\'s chart library cannot be read', retriable: false, httpStatus: 500, exitCode: 69 },
   HR_ERR_REPLAY_KAFKA: { message: 'the Kafka time range could not be read', retriable: true, httpStatus: 503, exitCode: 69 },
 } as const satisfies Record<string, ErrorSpec>;
 

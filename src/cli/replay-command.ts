@@ -38,10 +38,13 @@ figures.
 Output in --out DIR:
   report.json   format headroom-report/1: per window and series the count, low-margin shares with
                 Wilson intervals and the reference share, KS (statistic, p-value), PSI, Wasserstein-1,
-                margin quantiles, alerts
+                margin quantiles, alerts; and per series the margin CDFs of its reference and of its
+                first, last and largest-KS windows
   report.csv    the same, one row per window and series
   metrics.om    OpenMetrics with timestamps, the metric names of watch's /metrics; load it with
                   promtool tsdb create-blocks-from openmetrics DIR/metrics.om PROMETHEUS_DATA_DIR
+  report.html   one self-contained page (opens offline): per series, the low-margin share over time
+                against the reference, KS/PSI/Wasserstein over time, and those CDFs against the reference
 With --emit-reference DIR2, also one headroom-reference/1 file per model version of the replayed range.
 
 Lines that do not decode are counted by reason and listed at the end; a file that ends early (a .gz cut
@@ -161,7 +164,7 @@ export function registerReplayCommand(program: Command): void {
     .summary('backfill comparisons from logged events (files or a Kafka time range) into reports and metrics')
     .description(
       'Replay scored events from files or from a Kafka topic between two times through the same decoding, routing, ' +
-        'windows and comparisons as `headroom watch`, and write a report (JSON, CSV) and OpenMetrics with timestamps ' +
+        'windows and comparisons as `headroom watch`, and write a report (JSON, CSV, a self-contained HTML page) and OpenMetrics with timestamps ' +
         'for backfilling Prometheus.',
     )
     .option('-i, --input <path...>', 'event files (.jsonl, .jsonl.gz, .csv, .csv.gz) or directories of them')
@@ -169,7 +172,7 @@ export function registerReplayCommand(program: Command): void {
     .option('--since <time>', 'with --topic: ISO-8601 start, inclusive, by message timestamp (e.g. 2026-12-01T00:00:00Z)')
     .option('--until <time>', 'with --topic: ISO-8601 end, exclusive')
     .option('--brokers <list>', 'with --topic and no --config: brokers, host:port comma-separated')
-    .requiredOption('-o, --out <dir>', 'directory for report.json, report.csv and metrics.om (made if missing)')
+    .requiredOption('-o, --out <dir>', 'directory for report.json, report.csv, metrics.om and report.html (made if missing)')
     .option('--window <length>', 'event-time window: a duration such as 15m, 1h, 1d (aligned to the epoch, UTC), or total', '1h')
     .option('-c, --config <file>', 'a watch configuration: models, thresholds, segment keys, references, history, brokers')
     .option('--reference <file>', 'a reference file to compare with (repeat for several models)', (value: string, list: string[] = []) => [...list, value])

@@ -3,8 +3,8 @@
  * the watcher's API and /metrics compute for a view (src/serve/report.ts viewReports, the same function),
  * so a replayed window and a live view of the same events say the same thing. Pure: no clock, no I/O.
  *
- * This object is what every writer takes: report.json is it as JSON, report.csv and metrics.om are
- * written from it, and the HTML report (a later piece) is meant to take it as it is.
+ * This object is what every writer takes: report.json is it as JSON, report.csv, metrics.om and
+ * report.html are written from it.
  *
  * Alerts: each entry has `alerts`, filled by an AlertEvaluator given one series' entries in time order:
  * ruleAlerts (alerts.ts) with a watch configuration's rules, else `noAlerts` and every list is empty.
@@ -15,6 +15,7 @@ import type { LoadedReference } from '../reference/index.js';
 import { METRIC_QUANTILE_LEVELS } from '../serve/options.js';
 import { viewReports } from '../serve/report.js';
 import { DEFAULT_QUANTILE_LEVELS } from '../compare/index.js';
+import type { MarginDistribution } from '../sketch/index.js';
 import type { ClosedWindow } from './engine.js';
 
 export const REPORT_FORMAT = 'headroom-report/1';
@@ -66,6 +67,37 @@ export interface ReportEntry {
   readonly alerts: readonly AlertEntry[];
 }
 
+/** Why a window's CDF was kept (src/replay/cdf.ts): the series' first and last windows, and its largest KS D. */
+export type CdfPick = 'first' | 'last' | 'worst-ks';
+
+export interface WindowCdf {
+  readonly start: string;
+  readonly end: string;
+  /** One window can be several picks at once (e.g. the first and the worst). */
+  readonly picked: readonly CdfPick[];
+  readonly count: number;
+  readonly ks: number | null;
+  /** P(margin <= x) at each of ReportCdfs.margins. */
+  readonly cdf: readonly number[];
+}
+
+export interface SeriesCdfs {
+  readonly model: string;
+  readonly version: string;
+  readonly segment: string;
+  /** The reference's P(margin <= x) at each of ReportCdfs.margins; null without a reference. */
+  readonly reference: readonly number[] | null;
+  /** In time order; at most three. */
+  readonly windows: readonly WindowCdf[];
+}
+
+export interface ReportCdfs {
+  /** The margins every CDF is given at: 0, 0.01, ..., 1. */
+  readonly margins: readonly number[];
+  /** By model, version and segment. */
+  readonly series: readonly SeriesCdfs[];
+}
+
 export interface ReportTotals {
   /** Lines read from files (or messages read from Kafka). */
   readonly lines: number;
@@ -92,6 +124,8 @@ export interface ReplayReport {
   readonly totals: ReportTotals;
   /** By start, then model, version and segment. */
   readonly windows: readonly ReportEntry[];
+  /** Confidence-margin CDFs of a few windows per series and of its reference, for drawing (src/replay/cdf.ts). */
+  readonly cdfs: ReportCdfs;
 }
 
 /** Finds the reference of a model version; undefined when none was given. */
@@ -107,8 +141,20 @@ export function referenceLookup(references: readonly LoadedReference[]): Referen
   return (model, version) => byKey.get(`${model}\u0000${version}`);
 }
 
+/** One series' entry in a closed window, with the two distributions it was computed from. */
+export interface WindowFigures {
+  readonly entry: ReportEntry;
+  readonly live: MarginDistribution;
+  /** The reference's confidence margins; undefined without a reference. */
+  readonly reference: MarginDistribution | undefined;
+}
+
 /** The entries of one closed window, one per series, sorted as mergeView sorts (model, version, segment). */
 export function windowEntries(closed: ClosedWindow, windowName: string, references: ReferenceLookup): ReportEntry[] {
+  return windowFigures(closed, windowName, references).map((f) => f.entry);
+}
+
+export function windowFigures(closed: ClosedWindow, windowName: string, references: ReferenceLookup): WindowFigures[] {
   const spec = { name: windowName, durationMs: closed.viewMs };
   const start = new Date(closed.startMs).toISOString();
   const end = new Date(closed.endMs).toISOString();
@@ -119,7 +165,7 @@ export function windowEntries(closed: ClosedWindow, windowName: string, referenc
     const counters = s.windows.counters();
     const quantiles: Record<string, number | null> = {};
     for (const q of v.quantiles) quantiles[String(q.q)] = q.live;
-    return {
+    const entry: ReportEntry = {
       start,
       end,
       model: s.model,
@@ -136,6 +182,7 @@ export function windowEntries(closed: ClosedWindow, windowName: string, referenc
       quantiles,
       alerts: [],
     };
+    return { entry, live: v.summary.distribution, reference: reference?.confidence };
   });
 }
 

@@ -1,7 +1,8 @@
 /**
  * `headroom replay` end to end: read (files, or a Kafka time range), decode and measure each event as the
- * watcher does, feed the ReplayEngine, then write the report model out as report.json, report.csv and
- * metrics.om (and, asked, reference files of the replayed range). The I/O edge around the pure engine.
+ * watcher does, feed the ReplayEngine, then write the report model out as report.json, report.csv,
+ * metrics.om and report.html (and, asked, reference files of the replayed range). The I/O edge around the
+ * pure engine.
  *
  * A file that ends early (a .gz cut short) or fails part way is not fatal here, unlike for a reference:
  * a backfill of a month should not be lost to one bad hour. Its events up to the failure count; the file
@@ -25,11 +26,14 @@ import { createProgress, formatBytes, formatRejectionSummary, listInputFiles, lo
 import type { InputFile, Progress, ProgressOutput, SourceRejection } from '../sources/index.js';
 import type { ModelSettings } from '../state/index.js';
 import { writeTextAtomically } from '../files/atomic-write.js';
+import { CdfPicker } from './cdf.js';
+import { loadChartLibrary } from './chart-library.js';
 import { reportCsv } from './csv.js';
+import { reportHtml } from './html.js';
 import { ReplayEngine } from './engine.js';
 import { planRange, readRange } from './kafka-range.js';
 import { openMetricsLines } from './openmetrics.js';
-import { noAlerts, referenceLookup, REPORT_FORMAT, windowEntries, withAlerts } from './report.js';
+import { noAlerts, referenceLookup, REPORT_FORMAT, windowFigures, withAlerts } from './report.js';
 import type { AlertEvaluator, ReplayReport, ReportEntry } from './report.js';
 import type { ReplayWindow } from './window-spec.js';
 
@@ -227,12 +231,18 @@ export async function runReplay(options: ReplayOptions, io: ReplayIo): Promise<R
   const discoverThresholds = options.thresholds ?? [...new Set([...references.flatMap((r) => r.thresholds)])].sort((a, b) => a - b);
   const entries: ReportEntry[] = [];
   const lookup = referenceLookup(references);
+  const cdfs = new CdfPicker();
   const engine = new ReplayEngine({
     window: options.window,
     models: options.models,
     discover: { window: { thresholds: discoverThresholds.length > 0 ? discoverThresholds : DEFAULT_THRESHOLDS } },
     nowMs: io.nowMs(),
-    onWindow: (closed) => entries.push(...windowEntries(closed, options.window.name, lookup)),
+    onWindow: (closed) => {
+      for (const f of windowFigures(closed, options.window.name, lookup)) {
+        entries.push(f.entry);
+        cdfs.observe(f.entry, f.live, f.reference);
+      }
+    },
   });
   const keysOf = (event: ScoredEvent): readonly string[] => {
     const own = options.models?.find((m) => m.name === event.model) ?? options.models?.find((m) => m.name === '*');
@@ -263,6 +273,7 @@ export async function runReplay(options: ReplayOptions, io: ReplayIo): Promise<R
     window: options.window.name,
     totals: { lines: intake.lines, events: counts.events, rejected: counts.rejected, afterClose: counts.afterClose, unwatched: counts.unwatched, skipped },
     windows: withAlerts(entries, options.alerts ?? noAlerts),
+    cdfs: cdfs.result(),
   };
 
   io.stderr.write(formatRejectionSummary(intake.tally, intake.lines));
@@ -272,10 +283,7 @@ export async function runReplay(options: ReplayOptions, io: ReplayIo): Promise<R
   return { report, written };
 }
 
-/**
- * Every file of the report from the one ReplayReport object. The HTML report (a later piece) belongs here
- * too, as one more writer taking `report` as it is: it needs nothing the model does not hold.
- */
+/** Every file of the report from the one ReplayReport object; each writer takes it as it is. */
 async function writeReport(report: ReplayReport, options: ReplayOptions, io: ReplayIo): Promise<string[]> {
   try {
     await mkdir(options.out, { recursive: true });
@@ -285,11 +293,13 @@ async function writeReport(report: ReplayReport, options: ReplayOptions, io: Rep
   const json = join(options.out, 'report.json');
   const csv = join(options.out, 'report.csv');
   const om = join(options.out, 'metrics.om');
+  const html = join(options.out, 'report.html');
   await writeFileAtomically(json, `${JSON.stringify(report, null, 2)}\n`);
   await writeFileAtomically(csv, reportCsv(report));
   await writeLines(om, openMetricsLines(report, options.metricsStepMs));
-  for (const path of [json, csv, om]) io.stdout.write(`${path}\n`);
-  return [json, csv, om];
+  await writeFileAtomically(html, reportHtml(report, await loadChartLibrary()));
+  for (const path of [json, csv, om, html]) io.stdout.write(`${path}\n`);
+  return [json, csv, om, html];
 }
 
 async function writeReferences(intake: Intake, dir: string, io: ReplayIo): Promise<string[]> {

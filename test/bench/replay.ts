@@ -4,7 +4,7 @@
  *
  * - raw:    createReadStream → gunzip → split into lines (no decoding): the least any replay must do;
  * - replay: runReplay with 1h windows: decode, margins, routing (all, line=<n>, site=<s>), windows,
- *           comparisons with a reference, and report.json, report.csv and metrics.om written.
+ *           comparisons with a reference, and report.json, report.csv, metrics.om and report.html written.
  * The two run in turn, twice each, and the faster run of each is reported, so a burst of load from
  * another process on the machine is less likely to colour one of them alone.
  */

@@ -69,7 +69,7 @@ describe('replay of files', () => {
     const out = join(dir, 'hours-out');
     const { io: replayIo, out: stdout } = io();
     await runReplay({ inputs: [input], window: parseReplayWindow('1h'), out, references: [refPath], progress: false, metricsStepMs: 60_000 }, replayIo);
-    expect(stdout.join('')).toBe(['report.json', 'report.csv', 'metrics.om'].map((f) => `${join(out, f)}\n`).join(''));
+    expect(stdout.join('')).toBe(['report.json', 'report.csv', 'metrics.om', 'report.html'].map((f) => `${join(out, f)}\n`).join(''));
     const report = readReport(out);
     expect(report.format).toBe('headroom-report/1');
     expect(report.totals).toMatchObject({ lines: 5_400, events: 5_400, afterClose: 0, rejected: {} });
@@ -93,6 +93,20 @@ describe('replay of files', () => {
     }
     // Live and reference events come from one generator (line 3 squeezed in both), so every KS is small.
     expect(Math.max(...report.windows.map((w) => w.ks?.statistic ?? Number.NaN))).toBeLessThan(0.2);
+    // The CDFs kept for report.html: per series the first hour, the last, and the one with the largest KS D.
+    expect(report.cdfs.series.map((c) => c.segment)).toEqual(['all', 'line=1', 'line=2', 'line=3']);
+    for (const c of report.cdfs.series) {
+      const own = report.windows.filter((w) => w.segment === c.segment);
+      const worst = own.reduce((a, b) => ((b.ks?.statistic ?? 0) > (a.ks?.statistic ?? 0) ? b : a));
+      expect(c.windows.find((w) => w.picked.includes('first'))?.start).toBe(new Date(T0).toISOString());
+      expect(c.windows.find((w) => w.picked.includes('last'))?.start).toBe(new Date(T0 + 2 * HOUR).toISOString());
+      expect(c.windows.find((w) => w.picked.includes('worst-ks'))?.ks).toBe(worst.ks?.statistic);
+      const first = c.windows[0];
+      const inFirst = made.filter((m) => m.timeMs < T0 + HOUR && (c.segment === 'all' || c.segment === `line=${m.line}`));
+      // Sketch CDF against the exact share of the hour's margins at or below 0.5: close, not equal.
+      expect(first?.cdf[50]).toBeCloseTo(inFirst.filter((m) => m.margin <= 0.5).length / inFirst.length, 1);
+      expect(c.reference).toHaveLength(101);
+    }
     const csv = readFileSync(join(out, 'report.csv'), 'utf8').trimEnd().split('\n');
     expect(csv).toHaveLength(1 + report.windows.length);
     expect(csv[0]?.split(',').slice(0, 6)).toEqual(['start', 'end', 'model', 'version', 'segment', 'count']);

@@ -27,7 +27,7 @@ function entry(hour: number, segment: string, count: number, over: Partial<Repor
 }
 
 function report(windows: ReportEntry[], window = '1h'): ReplayReport {
-  return { format: REPORT_FORMAT, createdAt: '2026-12-02T00:00:00.000Z', source: 'test', window, totals: { lines: 0, events: 0, rejected: {}, afterClose: 0, unwatched: 0, skipped: [] }, windows };
+  return { format: REPORT_FORMAT, createdAt: '2026-12-02T00:00:00.000Z', source: 'test', window, totals: { lines: 0, events: 0, rejected: {}, afterClose: 0, unwatched: 0, skipped: [] }, windows, cdfs: { margins: [], series: [] } };
 }
 
 describe('metrics.om', () => {
