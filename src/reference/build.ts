@@ -162,6 +162,7 @@ export class ReferenceBuilder {
     if (signedValues.length > 0) {
       const signed = new MarginSummary({ thresholds: [], ...digestOptions });
       for (const x of signedValues) signed.add(x);
+      signed.compact(); // a reference file holds finished digests: nothing waiting to be folded
       labels = {
         n: signedValues.length,
         signed: signed.toState(),
@@ -169,6 +170,7 @@ export class ReferenceBuilder {
         calibration: series.calibration.count > 0 ? series.calibration.bins() : null,
       };
     }
+    confidence.compact();
     return {
       n,
       confidence: confidence.toState(),

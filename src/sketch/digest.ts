@@ -8,8 +8,11 @@
  * digest on the same samples; the figures are in that script's output.
  *
  * Points are buffered and folded in by one sort-and-sweep (centroids.ts) when the buffer fills or when
- * an answer is asked for, so answers always come from compressed centroids, and a digest restored from
- * toState() answers exactly as the original does after toState().
+ * an answer is asked of this digest, so answers always come from compressed centroids. toState() keeps
+ * the buffer as it is (it folds nothing), so a restored copy is the same digest: it folds at the same
+ * moments and answers exactly as the original does. Views and merged series read live digests through
+ * merge() into fresh copies, which leaves the live ones untouched: their figures depend only on what
+ * was added, not on when anyone looked or checkpointed.
  */
 import { compress, EMPTY_CENTROIDS, type Centroids, type Items } from './centroids.js';
 import type { MarginDistribution } from './distribution.js';
@@ -116,6 +119,25 @@ export class MarginDigest implements MarginDistribution {
     });
     if (n > 0 && !(d.total > 0 && Number.isFinite(d.total))) throw badState(`${path}.centroids`, 'weights do not sum to a finite total');
     d.centroids = { mean, weight, lo, hi };
+    for (const c of s.merging ?? []) {
+      d.buffer.mean.push(c[0]);
+      d.buffer.weight.push(c[1]);
+      d.buffer.lo.push(c.length === 2 ? c[0] : c[2]);
+      d.buffer.hi.push(c.length === 2 ? c[0] : c[3]);
+      d.total += c[1];
+    }
+    const capacity = BUFFER_PER_COMPRESSION * d.compression;
+    if (s.points !== undefined && s.points.length > 0) {
+      if (s.points.length >= capacity) throw badState(`${path}.points`, `holds ${s.points.length} values; a digest of compression ${d.compression} folds at ${capacity}`);
+      const points: Points = { x: new Float64Array(capacity), w: new Float64Array(capacity), count: s.points.length, unitWeights: true };
+      s.points.forEach(([x, w], i) => {
+        points.x[i] = x;
+        points.w[i] = w;
+        if (w !== 1) points.unitWeights = false;
+        d.total += w;
+      });
+      d.points = points;
+    }
     return d;
   }
 
@@ -181,17 +203,32 @@ export class MarginDigest implements MarginDistribution {
     return valueAtWeight(k, q * k.total);
   }
 
-  /** The compressed form (the buffer is folded in first). */
+  /**
+   * The digest as it is, without folding anything: the centroids, and what waits to be folded (`merging`:
+   * centroids merged in from other digests; `points`: values added one by one, in the order added). It
+   * changes nothing, so when a checkpoint is taken never moves a figure, and a restored copy folds at the
+   * same moments as the original would have: both answer alike from then on, and so do a live watcher, a
+   * restarted one and a replay of the same events. A finished digest (compact()) has nothing waiting.
+   */
   toState(): DigestState {
-    this.flush();
-    const c = this.centroids;
-    const centroids: CentroidTuple[] = [];
-    for (let i = 0; i < c.mean.length; i += 1) {
-      const lo = c.lo[i] as number;
-      const hi = c.hi[i] as number;
-      centroids.push(lo === hi ? [lo, c.weight[i] as number] : [c.mean[i] as number, c.weight[i] as number, lo, hi]);
+    const tuples = (c: Items, n: number): CentroidTuple[] => {
+      const out: CentroidTuple[] = [];
+      for (let i = 0; i < n; i += 1) {
+        const lo = c.lo[i] as number;
+        const hi = c.hi[i] as number;
+        out.push(lo === hi ? [lo, c.weight[i] as number] : [c.mean[i] as number, c.weight[i] as number, lo, hi]);
+      }
+      return out;
+    };
+    const state: { -readonly [K in keyof DigestState]: DigestState[K] } = { v: 1, compression: this.compression, scale: this.scale, centroids: tuples(this.centroids, this.centroids.mean.length) };
+    if (this.buffer.mean.length > 0) state.merging = tuples(bufferItems(this.buffer), this.buffer.mean.length);
+    const p = this.points;
+    if (p !== undefined && p.count > 0) {
+      const points: [number, number][] = [];
+      for (let i = 0; i < p.count; i += 1) points.push([p.x[i] as number, p.w[i] as number]);
+      state.points = points;
     }
-    return { v: 1, compression: this.compression, scale: this.scale, centroids };
+    return state;
   }
 
   private fraction(x: number, inclusive: boolean): number {

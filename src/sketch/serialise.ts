@@ -24,6 +24,10 @@ export interface DigestState {
   readonly compression: number;
   readonly scale: ScaleName;
   readonly centroids: readonly CentroidTuple[];
+  /** Centroids merged in and not yet folded, in the order they came; absent when none. */
+  readonly merging?: readonly CentroidTuple[];
+  /** Values added and not yet folded, [x, weight] in the order added; absent when none. */
+  readonly points?: readonly (readonly [number, number])[];
 }
 
 export interface SummaryState {
@@ -112,7 +116,43 @@ export function parseDigestState(value: unknown, path = 'digest'): DigestState {
     if (mean < lo || mean > hi) throw badState(`${at}[0]`, '(mean) must lie in [lo, hi]');
     centroids.push([mean, weight, lo, hi]);
   });
-  return { v: 1, compression, scale: o.scale, centroids };
+  const state: { -readonly [K in keyof DigestState]: DigestState[K] } = { v: 1, compression, scale: o.scale, centroids };
+  if (o.merging !== undefined) {
+    state.merging = list(o.merging, `${path}.merging`).map((entry, i) => {
+      const at = `${path}.merging[${i}]`;
+      const t = list(entry, at);
+      if (t.length !== 2 && t.length !== 4) throw badState(at, 'must be [value, weight] or [mean, weight, lo, hi]');
+      const mean = finite(t[0], `${at}[0]`);
+      const weight = finite(t[1], `${at}[1]`);
+      if (weight <= 0) throw badState(`${at}[1]`, '(weight) must be positive');
+      if (t.length === 2) return [mean, weight] as CentroidTuple;
+      const lo = finite(t[2], `${at}[2]`);
+      const hi = finite(t[3], `${at}[3]`);
+      if (!(lo <= mean && mean <= hi)) throw badState(`${at}[0]`, '(mean) must lie in [lo, hi]');
+      return [mean, weight, lo, hi] as CentroidTuple;
+    });
+  }
+  if (o.points !== undefined) {
+    state.points = list(o.points, `${path}.points`).map((entry, i) => {
+      const at = `${path}.points[${i}]`;
+      const t = list(entry, at);
+      if (t.length !== 2) throw badState(at, 'must be [value, weight]');
+      const weight = finite(t[1], `${at}[1]`);
+      if (weight <= 0) throw badState(`${at}[1]`, '(weight) must be positive');
+      return [finite(t[0], `${at}[0]`), weight] as const;
+    });
+  }
+  return state;
+}
+
+/** Every value range a digest state holds: its centroids, and what waits to be folded. */
+function digestRanges(d: DigestState): { lo: number; hi: number; weight: number; at: string }[] {
+  const of = (c: CentroidTuple, at: string) => ({ lo: c.length === 2 ? c[0] : c[2], hi: c.length === 2 ? c[0] : c[3], weight: c[1], at });
+  return [
+    ...d.centroids.map((c, i) => of(c, `centroids[${i}]`)),
+    ...(d.merging ?? []).map((c, i) => of(c, `merging[${i}]`)),
+    ...(d.points ?? []).map(([x, w], i) => ({ lo: x, hi: x, weight: w, at: `points[${i}]` })),
+  ];
 }
 
 export function parseSummaryState(value: unknown, path = 'summary'): SummaryState {
@@ -133,8 +173,9 @@ export function parseSummaryState(value: unknown, path = 'summary'): SummaryStat
     }
   });
   const digest = parseDigestState(o.digest, `${path}.digest`);
+  const ranges = digestRanges(digest);
   let weight = 0;
-  for (const c of digest.centroids) weight += c[1];
+  for (const r of ranges) weight += r.weight;
   if (!sameTotal(weight, count)) throw badState(`${path}.count`, `is ${count} but the digest holds ${weight}`);
   if (count === 0) {
     if (o.min !== null) throw badState(`${path}.min`, 'must be null when count is 0');
@@ -144,11 +185,7 @@ export function parseSummaryState(value: unknown, path = 'summary'): SummaryStat
   const min = finite(o.min, `${path}.min`);
   const max = finite(o.max, `${path}.max`);
   if (min > max) throw badState(`${path}.min`, 'must not exceed max');
-  digest.centroids.forEach((c, i) => {
-    const lo = c.length === 2 ? c[0] : c[2];
-    const hi = c.length === 2 ? c[0] : c[3];
-    if (lo < min || hi > max) throw badState(`${path}.digest.centroids[${i}]`, `lies outside [min, max] = [${min}, ${max}]`);
-  });
+  for (const r of ranges) if (r.lo < min || r.hi > max) throw badState(`${path}.digest.${r.at}`, `lies outside [min, max] = [${min}, ${max}]`);
   return { thresholds, count, sum, min, max, below, digest };
 }
 

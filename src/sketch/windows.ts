@@ -211,7 +211,7 @@ export class MarginWindows {
     }
   }
 
-  /** Plain JSON (see serialise.ts). Folds every digest's buffer first, so answers after this equal the restored copy's. */
+  /** Plain JSON (see serialise.ts). Changes nothing: a restored copy equals this window, pending points included. */
   toState(): WindowState {
     const buckets = (m: Map<number, MarginSummary>): BucketState[] => sortedEntries(m).map(([startMs, s]) => ({ startMs, summary: s.toState() }));
     return {

@@ -206,7 +206,38 @@ describe('MarginDigest: state', () => {
 
   it('writes single values as pairs and spread centroids as quadruples', () => {
     const d = digestOf([0, 0, 0, 0.5]);
+    d.compact();
     expect(d.toState()).toEqual({ v: 1, compression: 200, scale: 'k1', centroids: [[0, 3], [0.5, 1]] });
+  });
+
+  it('keeps values not yet folded as they are, in the order added, and toState() folds nothing', () => {
+    const d = digestOf([0.5, 0, 0.25]);
+    expect(d.toState()).toEqual({ v: 1, compression: 200, scale: 'k1', centroids: [], points: [[0.5, 1], [0, 1], [0.25, 1]] });
+    expect(d.toState()).toEqual(d.toState());
+    // Merged-in centroids wait apart from the points, in the order merged.
+    const other = digestOf([0.1, 0.2]);
+    other.compact();
+    d.merge(other);
+    expect(d.toState().merging).toEqual([[0.1, 1], [0.2, 1]]);
+  });
+
+  it('answers alike, checkpointed or not: the figures depend on what was added, not on when a state was taken', () => {
+    const xs = makeSamples('discrete', 7, 20_000);
+    const plain = digestOf(xs);
+    const checkpointed = new MarginDigest();
+    let restored = new MarginDigest();
+    xs.forEach((x, i) => {
+      checkpointed.add(x);
+      restored.add(x);
+      if (i % 997 === 0) {
+        checkpointed.toState();
+        restored = MarginDigest.fromState(JSON.parse(JSON.stringify(restored.toState())));
+      }
+    });
+    for (const q of [0.01, 0.1, 0.5, 0.9, 0.99]) {
+      expect(checkpointed.quantile(q)).toBe(plain.quantile(q));
+      expect(restored.quantile(q)).toBe(plain.quantile(q));
+    }
   });
 
   it('keeps adding after a restore as the original does', () => {

@@ -73,7 +73,8 @@ describe('summary state', () => {
     ['too few below counts', (s) => (s.below as number[]).pop(), 'summary.below'],
     ['unsorted thresholds', (s) => (s.thresholds as number[]).reverse(), 'summary.thresholds'],
     ['min above max', (s) => (s.min = 2), 'summary.min'],
-    ['a centroid outside [min, max]', (s) => (s.max = 0.5), 'summary.digest.centroids'],
+    ['a centroid outside [min, max]', (s) => (s.max = 0.5), 'summary.digest.points'],
+    ['a pending point of no weight', (s) => (((s.digest as Json).points as number[][])[3] = [0.5, 0]), 'summary.digest.points[3][1]'],
     ['a bad nested digest', (s) => ((s.digest as Json).v = 0), 'summary.digest.v'],
   ])('refuses %s', (_what, spoil, field) => {
     const s = summaryState();
