@@ -49,6 +49,8 @@ export const ERROR_CODES = {
   HR_ERR_REPLAY_ARGUMENT: { message: 'replay argument is out of range', retriable: false, httpStatus: 400, exitCode: 70 },
   HR_ERR_REPLAY_CHART_LIBRARY: { message: 'the HTML report\'s chart library cannot be read', retriable: false, httpStatus: 500, exitCode: 69 },
   HR_ERR_REPLAY_KAFKA: { message: 'the Kafka time range could not be read', retriable: true, httpStatus: 503, exitCode: 69 },
+  HR_ERR_DEMO_ARGUMENT: { message: 'demo argument is out of range', retriable: false, httpStatus: 400, exitCode: 70 },
+  HR_ERR_DEMO_KAFKA: { message: 'the demo could not produce its scenario to Kafka', retriable: true, httpStatus: 503, exitCode: 69 },
 } as const satisfies Record<string, ErrorSpec>;
 
 export type ErrorCode = keyof typeof ERROR_CODES;

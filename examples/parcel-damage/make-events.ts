@@ -6,30 +6,17 @@
  *     npx tsx examples/parcel-damage/make-events.ts [count] [out.csv|out.jsonl]
  */
 import { writeFileSync } from 'node:fs';
-
-function seeded(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+import { drawParcel, seededRandom } from '../../src/demo/parcels.js';
 
 const count = Number(process.argv[2] ?? 300);
 const out = process.argv[3] ?? 'examples/parcel-damage/heldout.csv';
-const random = seeded(2026);
+const random = seededRandom(2026);
 const start = Date.UTC(2026, 10, 20, 6, 0, 0);
 
 const rows: { id: string; time: string; p: number; label: number; line: string }[] = [];
 for (let i = 0; i < count; i++) {
-  const line = String(1 + Math.floor(random() * 3));
-  const damaged = random() < 0.12;
-  // How sure the model is: a power of a uniform, flatter (less sure) on line 3.
-  const sureness = random() ** (line === '3' ? 1.2 : 0.35);
-  const p = Math.round((damaged ? 0.5 + 0.5 * sureness : 0.5 - 0.5 * sureness) * 1e4) / 1e4;
+  // How sure the model is: a power of a uniform, flatter (less sure) on line 3 (src/demo/parcels.ts).
+  const { line, damaged, p } = drawParcel(random);
   // Now and then the model is sure and wrong.
   const label = random() < 0.04 ? 1 - Number(damaged) : Number(damaged);
   rows.push({ id: `p-${String(i).padStart(6, '0')}`, time: new Date(start + i * 1500).toISOString(), p, label, line });

@@ -9,34 +9,20 @@
 import { mkdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { gzipSync } from 'node:zlib';
-
-function seeded(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+import { drawParcel, PARCEL_MODEL, PARCEL_VERSION, seededRandom } from '../../src/demo/parcels.js';
 
 const dir = process.argv[2] ?? '/tmp/parcel-logs';
-const random = seeded(1201);
+const random = seededRandom(1201);
 const HOUR = 3_600_000;
 mkdirSync(dir, { recursive: true });
 for (const day of [24, 25]) {
   const start = Date.UTC(2026, 10, day);
   const lines: string[] = [];
   for (let t = start, i = 0; t < start + 24 * HOUR; t += 4_000, i++) {
-    const line = String(1 + Math.floor(random() * 3));
-    const damaged = random() < 0.12;
-    // As in make-events.ts: line 3 is the less sure one, and after noon on the 25th it gets worse by the hour.
-    const fog = day === 25 && line === '3' ? Math.max(0, (t - (start + 12 * HOUR)) / HOUR) * 0.25 : 0;
-    const sureness = random() ** ((line === '3' ? 1.2 : 0.35) + fog);
-    const p = Math.round((damaged ? 0.5 + 0.5 * sureness : 0.5 - 0.5 * sureness) * 1e4) / 1e4;
+    // Line 3 is the less sure one (src/demo/parcels.ts), and after noon on the 25th it gets worse by the hour.
+    const { line, p } = drawParcel(random, (l) => (day === 25 && l === '3' ? Math.max(0, (t - (start + 12 * HOUR)) / HOUR) * 0.25 : 0));
     const id = `p-${day}-${String(i).padStart(6, '0')}`;
-    lines.push(JSON.stringify({ id, model: 'parcel-damage', version: '2026.11.3', time: new Date(t).toISOString(), score: { kind: 'probability', p }, segment: { line } }));
+    lines.push(JSON.stringify({ id, model: PARCEL_MODEL, version: PARCEL_VERSION, time: new Date(t).toISOString(), score: { kind: 'probability', p }, segment: { line } }));
   }
   // A scanner glitch: one garbled line a day, which the replay counts and skips.
   lines.splice(1000, 0, `{"id":"p-${day}-glitch","model":"parcel-damage","score":`);

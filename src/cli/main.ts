@@ -6,7 +6,7 @@
 import { Command, CommanderError } from 'commander';
 import { exitCodeOf, isHeadroomError } from '../errors.js';
 import { registerReferenceCommand } from './reference-command.js';
-import { registerPlannedCommands } from './planned-commands.js';
+import { registerDemoCommand } from './demo-command.js';
 import { registerReplayCommand } from './replay-command.js';
 import { registerWatchCommand } from './watch-command.js';
 
@@ -21,7 +21,7 @@ export function buildProgram(): Command {
   registerWatchCommand(program);
   registerReferenceCommand(program);
   registerReplayCommand(program);
-  registerPlannedCommands(program);
+  registerDemoCommand(program);
   return program;
 }
 

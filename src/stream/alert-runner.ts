@@ -12,7 +12,7 @@ import { mkdir, readFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import type { Logger } from 'pino';
 import { AlertBook, evaluateAlerts } from '../alerts/index.js';
-import type { AlertRule, AlertSeries, AlertTransition, NamedView, Reading } from '../alerts/index.js';
+import type { AlertRule, AlertSeries, AlertTransition, NamedView, Reading, ThresholdFor } from '../alerts/index.js';
 import type { AlertReport } from '../serve/index.js';
 import { HeadroomError } from '../errors.js';
 import { writeTextAtomically } from '../files/atomic-write.js';
@@ -29,10 +29,13 @@ export interface AlertRunnerOptions {
   readonly views: readonly NamedView[];
   /** The merged series as they are now (called once per tick). */
   readonly series: () => Iterable<AlertSeries>;
-  readonly dir: string;
+  /** Where the book is saved; null keeps it in memory only (the embedded demo, which starts calm every run). */
+  readonly dir: string | null;
   readonly group: string;
   readonly logger: Logger;
   readonly listeners: readonly TransitionListener[];
+  /** How early-warning decision levels are found; default the book's own (cusumThreshold, seconds each). The demo passes levels it solved before its clock started. */
+  readonly thresholdFor?: ThresholdFor;
 }
 
 export interface AlertRunner {
@@ -41,20 +44,24 @@ export interface AlertRunner {
   /** One evaluation: evaluate, save, notify. Ticks never overlap (the caller's timer skips a busy tick). */
   tick(): Promise<readonly AlertTransition[]>;
   report(): AlertReport;
-  readonly path: string;
+  /** null when the book is kept in memory only. */
+  readonly path: string | null;
 }
 
 export function createAlertRunner(options: AlertRunnerOptions): AlertRunner {
   const { rules, views, logger } = options;
-  const path = join(options.dir, `${encodeName(options.group)}.alerts.json`);
+  const dir = options.dir;
+  const path = dir === null ? null : join(dir, `${encodeName(options.group)}.alerts.json`);
   const byName = new Map(rules.map((r) => [r.name, r]));
-  let book = new AlertBook(rules);
+  const bookOptions = options.thresholdFor === undefined ? {} : { thresholdFor: options.thresholdFor };
+  let book = new AlertBook(rules, bookOptions);
   let saved = '';
   let temp = 0;
   const recent: AlertTransition[] = [];
   let failing = new Map<string, string>();
 
   async function load(): Promise<void> {
+    if (path === null) return;
     let text: string;
     try {
       text = await readFile(path, 'utf8');
@@ -69,7 +76,7 @@ export function createAlertRunner(options: AlertRunnerOptions): AlertRunner {
       throw new HeadroomError('HR_ERR_CHECKPOINT_CORRUPT', `${path}: not JSON (${(error as Error).message}); move it away to start every alert calm`, { cause: error, context: { path } });
     }
     try {
-      const restored = AlertBook.fromState(rules, json);
+      const restored = AlertBook.fromState(rules, json, bookOptions);
       book = restored.book;
       saved = text;
       if (restored.dropped.length > 0) logger.info({ dropped: restored.dropped }, 'saved alerts of rules no longer configured were dropped');
@@ -81,8 +88,8 @@ export function createAlertRunner(options: AlertRunnerOptions): AlertRunner {
 
   async function save(): Promise<void> {
     const text = `${JSON.stringify(book.toState())}\n`;
-    if (text === saved) return;
-    await mkdir(options.dir, { recursive: true });
+    if (text === saved || dir === null || path === null) return;
+    await mkdir(dir, { recursive: true });
     temp += 1;
     await writeTextAtomically(path, text, `${path}.tmp-${process.pid}-${temp}`);
     saved = text;

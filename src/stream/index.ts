@@ -8,3 +8,8 @@ export { createReferenceFiles } from './reference-files.js';
 export type { ReferenceFiles, ReloadReport } from './reference-files.js';
 export type { SourceView } from './source.js';
 export { kafkaLogCreator } from './kafka-log.js';
+export { createOutputs } from './outputs.js';
+export type { Outputs, OutputsOptions } from './outputs.js';
+export { ingestScored } from './ingest.js';
+export type { Ingested } from './ingest.js';
+export type { TransitionListener } from './alert-runner.js';

@@ -15,29 +15,24 @@
  *   dead-letter copies are not yet on the dead-letter topic is not checkpointed: a crash then replays
  *   those messages and copies them again (at least once), never loses a copy.
  */
-import { createServer } from 'node:http';
-import type { Server } from 'node:http';
-import type { AddressInfo } from 'node:net';
 import { Kafka } from 'kafkajs';
 import type { Admin, Consumer, ConsumerGroupJoinEvent, EachBatchPayload, KafkaConfig as KafkajsConfig, Producer } from 'kafkajs';
 import type { Logger } from 'pino';
+import type { ThresholdFor } from '../alerts/index.js';
 import type { Registry } from 'prom-client';
 import { kafkaClientOptions } from '../config/index.js';
 import type { HeadroomConfig, TlsMaterial } from '../config/index.js';
 import { HeadroomError, isHeadroomError } from '../errors.js';
-import { decodeScoredEvent } from '../events/index.js';
-import { measureMargins } from '../margin/index.js';
-import { createApp, createMetrics } from '../serve/index.js';
 import type { PartitionInfo, Readiness, WatchedSeriesSource } from '../serve/index.js';
 import { PartitionState } from '../state/index.js';
 import type { CheckpointStore, PartitionStateJson } from '../state/index.js';
 import { kafkaLogCreator } from './kafka-log.js';
-import { createAlertRunner } from './alert-runner.js';
 import type { TransitionListener } from './alert-runner.js';
 import { DeadLetters } from './dead-letters.js';
+import { ingestScored } from './ingest.js';
 import { createReferenceFiles } from './reference-files.js';
 import type { ReloadReport } from './reference-files.js';
-import { createSeriesSource } from './source.js';
+import { createOutputs } from './outputs.js';
 
 export interface WatcherDependencies {
   readonly config: HeadroomConfig;
@@ -55,6 +50,8 @@ export interface WatcherDependencies {
   readonly lagIntervalMs?: number;
   /** Told of every alert transition, after the alert state is saved (src/notify makes webhook and log listeners). */
   readonly alertListeners?: readonly TransitionListener[];
+  /** How early-warning decision levels are found; default cusumThreshold (src/alerts). */
+  readonly thresholdFor?: ThresholdFor;
   /** Told once when the consumer stops for good (a crash kafkajs will not restart from). */
   readonly onFatal?: (error: HeadroomError) => void;
 }
@@ -91,7 +88,6 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
   const { config, store, nowMs } = deps;
   const group = config.kafka.groupId;
   const log = deps.logger.child({ component: 'stream' });
-  const httpLog = deps.logger.child({ component: 'http' });
   const topics = new Set(config.kafka.topics);
   const stateOptions = (topic: string, partition: number) => ({ topic, partition, models: config.models });
 
@@ -113,8 +109,6 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
   const queuedOffset = new Map<string, string>();
   let inBatch = false;
   let checkpointDue = false;
-  let server: Server | undefined;
-  let address: string | undefined;
   let joined = false;
   /** Set at the first assignment: from then on there are states to checkpoint at close. */
   let everJoined = false;
@@ -149,21 +143,19 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
       })
       .sort((a, b) => (a.topic < b.topic ? -1 : a.topic > b.topic ? 1 : a.partition - b.partition));
 
-  const series = createSeriesSource({ states: () => [...owned.values()], readiness, partitions }, references.current);
-  const alerting =
-    config.alerts.rules.length === 0
-      ? undefined
-      : createAlertRunner({
-          rules: config.alerts.rules,
-          views: config.windows,
-          series: () => series.series(),
-          dir: config.checkpoint.dir,
-          group,
-          logger: deps.logger.child({ component: 'alerts' }),
-          listeners: deps.alertListeners ?? [],
-        });
-  const source: WatchedSeriesSource = alerting === undefined ? series : { ...series, alerts: () => alerting.report() };
-  createMetrics({ registry: deps.registry, source, views: config.windows, nowMs });
+  // The read view, alerts, metrics and HTTP server, shared with the embedded demo (outputs.ts).
+  const outputs = createOutputs({
+    config,
+    view: { states: () => [...owned.values()], readiness, partitions },
+    references: references.current,
+    registry: deps.registry,
+    nowMs,
+    logger: deps.logger,
+    alertListeners: deps.alertListeners ?? [],
+    alertDir: config.checkpoint.dir,
+    ...(deps.thresholdFor === undefined ? {} : { thresholdFor: deps.thresholdFor }),
+  });
+  const { source, alerting } = outputs;
 
   async function loadCheckpoints(): Promise<void> {
     for (const { topic, partition } of await store.list(group)) {
@@ -175,23 +167,6 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
       saved.set(partitionKey(topic, partition), json);
     }
     log.info({ group, partitions: saved.size }, 'checkpoints loaded');
-  }
-
-  async function listen(): Promise<void> {
-    const app = createApp({ registry: deps.registry, source, views: config.windows, nowMs, onError: (error) => httpLog.error({ err: error }, 'request failed') });
-    const s = createServer(app);
-    server = s;
-    await new Promise<void>((resolve, reject) => {
-      s.once('error', reject);
-      s.listen(config.http.port, config.http.host, () => {
-        s.off('error', reject);
-        resolve();
-      });
-    });
-    const { port } = s.address() as AddressInfo;
-    const host = config.http.host.includes(':') ? `[${config.http.host}]` : config.http.host;
-    address = `http://${host}:${port}`;
-    httpLog.info({ url: address }, `listening on ${address}`);
   }
 
   async function refreshOffsets(which: 'low' | 'high'): Promise<void> {
@@ -287,14 +262,11 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
       const offset = message.offset;
       if (!caughtUp) caughtUp = BigInt(offset) >= next;
       if (caughtUp) {
-        const decoded = decodeScoredEvent(message.value ?? EMPTY, limits, Number(message.timestamp));
-        if (!decoded.ok) {
-          if (state.reject(decoded.reason, offset)) deadLetters?.add(key, batch.topic, batch.partition, message, decoded.reason, decoded.field);
-          log.debug({ topic: batch.topic, partition: batch.partition, offset, reason: decoded.reason, field: decoded.field }, 'message rejected');
-        } else {
-          const margins = measureMargins(decoded.event.score, decoded.event.label);
-          if (margins.ok) state.apply(decoded.event, margins, offset, now);
-          else if (state.reject(margins.reason, offset)) deadLetters?.add(key, batch.topic, batch.partition, message, margins.reason, margins.field);
+        // ingest.ts: the same decode → margins → apply the embedded demo runs.
+        const rejected = ingestScored(state, message.value ?? EMPTY, offset, limits, Number(message.timestamp), now);
+        if (rejected !== undefined) {
+          if (rejected.counted) deadLetters?.add(key, batch.topic, batch.partition, message, rejected.reason, rejected.field);
+          log.debug({ topic: batch.topic, partition: batch.partition, offset, reason: rejected.reason, field: rejected.field }, 'message rejected');
         }
       }
       unresolved = offset;
@@ -382,7 +354,7 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
       if (config.referenceReload.watchFiles) references.watchFiles(config.referenceReload.debounceMs);
       await loadCheckpoints().catch((e: unknown) => Promise.reject(startError('loading checkpoints', e)));
       await alerting?.load().catch((e: unknown) => Promise.reject(startError('loading the alert state', e)));
-      await listen().catch((e: unknown) => Promise.reject(startError(`listening on ${config.http.host}:${config.http.port}`, e)));
+      await outputs.listen().catch((e: unknown) => Promise.reject(startError(`listening on ${config.http.host}:${config.http.port}`, e)));
       const options: KafkajsConfig = { ...kafkaClientOptions(config, deps.tls ?? {}), logCreator: kafkaLogCreator(deps.logger.child({ component: 'kafkajs' })) };
       kafka = (deps.createKafka ?? ((o: KafkajsConfig) => new Kafka(o)))(options);
       const a = kafka.admin();
@@ -464,7 +436,7 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
       await step('leave the group', () => c?.disconnect());
       await step('disconnect the dead-letter producer', () => producer?.disconnect());
       await step('disconnect admin', () => admin?.disconnect());
-      await step('close HTTP', () => closeServer());
+      await step('close HTTP', () => outputs.closeServer());
       await step('close checkpoint store', () => store.close());
       log.info({ errors: errors.length }, 'watcher closed');
       if (errors.length > 0) {
@@ -474,14 +446,5 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
     return closing;
   }
 
-  function closeServer(): Promise<void> {
-    const s = server;
-    if (s === undefined || !s.listening) return Promise.resolve();
-    return new Promise<void>((resolve, reject) => {
-      s.close((error) => (error === undefined ? resolve() : reject(error)));
-      s.closeAllConnections();
-    });
-  }
-
-  return { start, close, reloadReferences: (why) => references.reload(why), source, url: () => address };
+  return { start, close, reloadReferences: (why) => references.reload(why), source, url: outputs.url };
 }
