@@ -13,7 +13,7 @@
  * and then the record at the checkpoint key, all with acks=-1 (every in-sync replica), and resolves once
  * the last is acknowledged and the store's own view holds it. Saves of one key from this store run one
  * after another. The topic is created if missing: cleanup.policy=compact, replication factor
- * min(3, brokers) unless given, min.insync.replicas 2 when it can; an existing topic that is not
+ * min(3, brokers) unless given, min.insync.replicas 2 with 3 replicas or more; an existing topic that is not
  * compact-only is refused, since time-based deletion would drop the checkpoints of quiet partitions.
  *
  * Do not add partitions to the state topic: a key's partition is its hash modulo the count, and
@@ -258,7 +258,7 @@ export class KafkaCheckpointStore implements CheckpointStore {
             configEntries: [
               { name: 'cleanup.policy', value: 'compact' },
               // Common practice: with 3 replicas, a save acknowledged by 2 survives the loss of one broker.
-              { name: 'min.insync.replicas', value: String(Math.min(2, replicationFactor)) },
+              { name: 'min.insync.replicas', value: replicationFactor >= 3 ? '2' : '1' },
             ],
           },
         ],
