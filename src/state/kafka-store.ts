@@ -22,7 +22,7 @@
 import { randomBytes, randomUUID } from 'node:crypto';
 import { promisify } from 'node:util';
 import { gunzip, gzip } from 'node:zlib';
-import { ConfigResourceTypes } from 'kafkajs';
+import kafkajs from 'kafkajs';
 import type { Admin, Consumer, EachBatchPayload, IHeaders, Kafka, Producer } from 'kafkajs';
 import type { Logger } from 'pino';
 import { HeadroomError, isHeadroomError } from '../errors.js';
@@ -34,6 +34,8 @@ import type { OutRecord, StoredRecord } from './kafka-records.js';
 import type { PartitionStateJson } from './partition-state.js';
 
 export const DEFAULT_STATE_TOPIC = 'headroom-state';
+// kafkajs is CommonJS and Node's ESM loader finds only some of its named exports; this one it misses.
+const { ConfigResourceTypes } = kafkajs;
 const gzipAsync = promisify(gzip);
 const gunzipAsync = promisify(gunzip);
 /** Room left in a record batch for the key, headers and batch framing when a chunk is sized to the topic's limit. */

@@ -3,7 +3,7 @@
  * store has to get right: several instances, states above the broker's record limit, compaction.
  */
 import { gzipSync } from 'node:zlib';
-import { ConfigResourceTypes, Kafka, logLevel } from 'kafkajs';
+import kafkajs, { Kafka, logLevel } from 'kafkajs';
 import type { Admin, KafkaMessage, Producer } from 'kafkajs';
 import { pino } from 'pino';
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest';
@@ -16,6 +16,7 @@ import { checkpointStoreContract, sampleState } from '../unit/state/checkpoint-s
 import { uniqueName } from '../harness/names.js';
 import { until } from '../harness/wait.js';
 
+const { ConfigResourceTypes } = kafkajs;
 const kafka = new Kafka({ clientId: 'headroom-kstore-test', brokers: inject('kafkaBrokers').split(','), logLevel: logLevel.NOTHING });
 const quiet = pino({ level: 'silent' });
 let admin: Admin;

@@ -3,8 +3,9 @@
  * through the state topic, not the file system. Watcher A counts the first events and stops; the
  * events are then deleted from the input topic, so watcher B, with an empty checkpoint.dir of its own,
  * can show them only by restoring A's states from Kafka; it counts the later events on top, exactly.
+ * And the `headroom watch` binary with `checkpoint.store: kafka`, from a config file to a clean exit.
  */
-import { mkdtempSync, readdirSync, rmSync } from 'node:fs';
+import { mkdtempSync, readdirSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { Kafka, logLevel, Partitioners } from 'kafkajs';
@@ -16,7 +17,9 @@ import { checkpointStoreFor } from '../../src/cli/checkpoint-store.js';
 import { KafkaCheckpointStore } from '../../src/state/index.js';
 import { createWatcher } from '../../src/stream/index.js';
 import type { Watcher } from '../../src/stream/index.js';
+import { spawnHeadroom } from '../harness/cli.js';
 import { uniqueName } from '../harness/names.js';
+import { freePort } from '../kafka/broker.js';
 import { expectedSeries, makeScoredEvents } from '../harness/scored-events.js';
 import { until } from '../harness/wait.js';
 import { countedMessages, expectWatcherShows, scrape } from '../harness/watch-checks.js';
@@ -106,5 +109,50 @@ describe('headroom watch with checkpoints on a Kafka topic', () => {
     // A's three assignments (nothing to restore) and B's three (each restored).
     expect(assigned.map((l) => l.restored)).toEqual([false, false, false, true, true, true]);
     expect(lines.filter((l) => l.includes('"level":50'))).toEqual([]);
+  }, 300_000);
+
+  it('headroom watch with checkpoint.store kafka counts, exits 0 on SIGTERM, and leaves its states on the topic', async () => {
+    const topic = uniqueName('kstore-cli-events');
+    const groupId = uniqueName('kstore-cli-group');
+    const stateTopic = uniqueName('kstore-cli-state');
+    await admin.createTopics({ topics: [{ topic, numPartitions: PARTITIONS, replicationFactor: 1 }], waitForLeaders: true });
+    const events = makeScoredEvents({ n: 2_000, seed: 43, fromMs: Date.now() - 60_000, spanMs: 50_000, idPrefix: 'c', thresholds: THRESHOLDS });
+    await producer.send({ topic, messages: events.map((e, i) => ({ key: `parcel-${i % 101}`, value: e.wire })) });
+    const dir = mkdtempSync(join(tmpdir(), 'headroom-kstore-cli-'));
+    dirs.push(dir);
+    const port = await freePort();
+    const url = `http://127.0.0.1:${port}`;
+    const configPath = join(dir, 'watch.yaml');
+    writeFileSync(
+      configPath,
+      JSON.stringify({
+        kafka: { brokers, clientId: 'headroom-kstore-cli-test', groupId, topics: [topic] },
+        models: [{ name: '*', thresholds: THRESHOLDS, segmentKeys: ['line', 'site'] }],
+        windows: ['5m'],
+        checkpoint: { store: 'kafka', topic: stateTopic, dir: join(dir, 'state'), interval: '1s' },
+        http: { host: '127.0.0.1', port },
+      }),
+    );
+    const cli = spawnHeadroom(['watch', '--config', configPath]);
+    try {
+      await until('the CLI to count every event', async () => countedMessages(await scrape(url).catch(() => [])) >= events.length, 120_000);
+      await expectWatcherShows(url, expectedSeries(events, THRESHOLDS), '5m');
+    } finally {
+      cli.child.kill('SIGTERM');
+    }
+    expect(await cli.exited, cli.output()).toBe(0);
+    const logged = cli.logLines();
+    expect(logged.some((l) => l.msg === 'state topic read to its end' && l.stateTopic === stateTopic), cli.output()).toBe(true);
+    expect(String(logged.find((l) => l.msg === 'configuration')?.config)).toContain(`checkpoint on topic ${stateTopic}`);
+
+    const store = new KafkaCheckpointStore({ kafka, topic: stateTopic, logger: pino({ level: 'silent' }) });
+    try {
+      const keys = await store.list(groupId);
+      expect(keys.map((k) => [k.topic, k.partition])).toEqual([0, 1, 2].map((p) => [topic, p]));
+      const states = await Promise.all(keys.map((k) => store.load(groupId, k.topic, k.partition)));
+      expect(states.reduce((n, s) => n + (s?.counts.events ?? 0), 0)).toBe(events.length);
+    } finally {
+      await store.close();
+    }
   }, 300_000);
 });
