@@ -40,6 +40,7 @@ export const ERROR_CODES = {
   HR_ERR_STATE_ARGUMENT: { message: 'partition state argument is out of range', retriable: false, httpStatus: 400, exitCode: 70 },
   HR_ERR_CHECKPOINT_CORRUPT: { message: 'stored checkpoint is corrupt; it is refused, not reset', retriable: false, httpStatus: 500, exitCode: 65 },
   HR_ERR_CHECKPOINT_IO: { message: 'checkpoint store cannot read or write', retriable: true, httpStatus: 503, exitCode: 74 },
+  HR_ERR_CHECKPOINT_TOPIC: { message: 'the state topic cannot hold checkpoints', retriable: false, httpStatus: 500, exitCode: 78 },
   HR_ERR_CHECKPOINT_CLOSED: { message: 'checkpoint store is closed', retriable: false, httpStatus: 503, exitCode: 70 },
   HR_ERR_NOTIFY_ARGUMENT: { message: 'notifier option is invalid', retriable: false, httpStatus: 500, exitCode: 70 },
   HR_ERR_WATCH_START: { message: 'the watcher could not start', retriable: true, httpStatus: 503, exitCode: 69 },

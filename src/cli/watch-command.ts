@@ -9,10 +9,10 @@ import { Registry } from 'prom-client';
 import { describeConfig, ENV_VARIABLES, loadConfig, readTlsMaterial } from '../config/index.js';
 import type { Env } from '../config/index.js';
 import { HeadroomError } from '../errors.js';
-import { FileCheckpointStore } from '../state/index.js';
 import { combineNotifiers, createLogNotifier, createWebhookNotifier, noticeOf, registerNotificationMetrics, webhookOptionsFrom } from '../notify/index.js';
 import type { Notifier } from '../notify/index.js';
 import { createWatcher } from '../stream/index.js';
+import { checkpointStoreFor } from './checkpoint-store.js';
 
 /** A shutdown that takes longer than this exits 1 instead of hanging a deploy. */
 export const SHUTDOWN_TIMEOUT_MS = 15_000;
@@ -28,8 +28,8 @@ Environment (each overrides the file):
   ${ENV_VARIABLES.alertWebhookToken}  bearer token for alerts.webhook; only from here, never in the file
   LOG_LEVEL                     pino level: fatal, error, warn, info (default), debug, trace
 
-State is kept per Kafka partition under checkpoint.dir and written with its next offset; on start the
-consumer resumes from there, so counts are exact across restarts. SIGTERM or SIGINT: stop fetching,
+State is kept per Kafka partition under checkpoint.dir (or, with checkpoint.store: kafka, on the compacted
+topic checkpoint.topic) and written with its next offset; on start the consumer resumes from there, so counts are exact across restarts. SIGTERM or SIGINT: stop fetching,
 checkpoint, commit, leave the group, exit 0 (1 when shutdown fails or takes over ${SHUTDOWN_TIMEOUT_MS / 1000} s).
 
 SIGHUP re-reads every reference file (as does a change to one, unless referenceReload.watchFiles is
@@ -54,7 +54,7 @@ export async function runWatch(configPath: string, io: WatchIo): Promise<void> {
   for (const warning of warnings) logger.warn(warning);
   logger.info({ config: describeConfig(config) }, 'configuration');
   const tls = await readTlsMaterial(config);
-  const store = new FileCheckpointStore({ dir: config.checkpoint.dir });
+  const store = checkpointStoreFor(config, tls, logger);
   const registry = new Registry();
   const notifiers: Notifier[] = [createLogNotifier(logger.child({ component: 'alerts' }))];
   if (config.alerts.webhook !== null) notifiers.push(createWebhookNotifier(webhookOptionsFrom(config.alerts.webhook, io.env, logger.child({ component: 'webhook' }))));

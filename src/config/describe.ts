@@ -23,7 +23,7 @@ export function describeConfig(config: HeadroomConfig): string {
     ),
     `windows ${config.windows.map((w) => w.name).join(', ')}; lateness ${formatDuration(config.latenessMs)}; max future ${formatDuration(config.maxFutureMs)}`,
     `history: ${formatDuration(h.bucketMs)} buckets for ${formatDuration(h.fineSpanMs)}, then ${formatDuration(h.coarseBucketMs)} buckets up to ${formatDuration(h.retentionMs)}`,
-    `checkpoint ${config.checkpoint.dir} every ${formatDuration(config.checkpoint.intervalMs)}`,
+    `checkpoint ${config.checkpoint.store === 'kafka' ? `on topic ${config.checkpoint.topic} (alert state in ${config.checkpoint.dir})` : config.checkpoint.dir} every ${formatDuration(config.checkpoint.intervalMs)}`,
     `references reloaded on SIGHUP${config.referenceReload.watchFiles ? ` and on a file change (after ${formatDuration(config.referenceReload.debounceMs)} of quiet)` : ' only (referenceReload.watchFiles: false)'}`,
     `http ${config.http.host}:${config.http.port}`,
     `decode: max ${config.decode.maxBytes} bytes, text ${config.decode.maxTextLength}, id ${config.decode.maxIdLength}, segment keys ${config.decode.maxSegmentKeys}`,

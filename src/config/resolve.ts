@@ -170,6 +170,9 @@ export function resolveParsed(
   }
 
   const c = parsed.checkpoint;
+  if (c.store === 'kafka' && [...k.topics, ...k.outcomeTopics, k.deadLetterTopic].includes(c.topic)) {
+    report(['checkpoint', 'topic'], `${JSON.stringify(c.topic)} is also a topic of kafka; checkpoints need a topic of their own, e.g. "headroom-state"`);
+  }
   if (c.interval < MIN_CHECKPOINT_INTERVAL_MS) {
     report(['checkpoint', 'interval'], `${formatDuration(c.interval)} is below ${MIN_CHECKPOINT_INTERVAL_MS}ms: each checkpoint writes every partition's state; use 1s or more`);
   }
@@ -194,7 +197,7 @@ export function resolveParsed(
     history,
     latenessMs: parsed.lateness,
     maxFutureMs: parsed.maxFuture,
-    checkpoint: { dir: c.dir, intervalMs: c.interval },
+    checkpoint: { store: c.store, dir: c.dir, topic: c.topic, intervalMs: c.interval },
     referenceReload: { watchFiles: parsed.referenceReload.watchFiles, debounceMs: parsed.referenceReload.debounce },
     alerts: { rules: parsed.alerts.rules, evaluateEveryMs: parsed.alerts.evaluateEvery, webhook: parsed.alerts.webhook ?? null, linkBase: parsed.alerts.linkBase },
     http: parsed.http,

@@ -99,7 +99,10 @@ export const configSchema = section('', {
   lateness: duration.prefault(formatDuration(DEFAULT_WINDOW_CONFIG.latenessMs)),
   maxFuture: duration.prefault(formatDuration(DEFAULT_WINDOW_CONFIG.maxFutureMs)),
   checkpoint: section('checkpoint', {
+    // file: one watcher per group; kafka: a compacted topic, so a partition's state follows it to another watcher.
+    store: z.enum(['file', 'kafka'], { error: 'must be file or kafka' }).default('file'),
     dir: name.default('./state'),
+    topic: name.default('headroom-state'),
     interval: duration.prefault('5s'),
   }).prefault({}),
   // Reference files are read at start and again on SIGHUP; this adds a reload when a file changes on disk.

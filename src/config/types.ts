@@ -80,7 +80,11 @@ export interface HeadroomConfig {
   readonly history: HistoryConfig;
   readonly latenessMs: number;
   readonly maxFutureMs: number;
-  readonly checkpoint: { readonly dir: string; readonly intervalMs: number };
+  /**
+   * Where partition states are kept: files under `dir`, or the compacted Kafka topic `topic`. The alert
+   * state is a file under `dir` either way.
+   */
+  readonly checkpoint: { readonly store: 'file' | 'kafka'; readonly dir: string; readonly topic: string; readonly intervalMs: number };
   /** Reload the reference files when they change on disk (SIGHUP reloads them either way), after debounceMs of quiet. */
   readonly referenceReload: { readonly watchFiles: boolean; readonly debounceMs: number };
   /** Alert rules (src/alerts) and how often the watcher evaluates them. */

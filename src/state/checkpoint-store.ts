@@ -1,7 +1,7 @@
 /**
  * Where partition states are kept between runs. A small interface so that the file store (one
- * instance), the in-memory store (tests of callers) and a compacted-Kafka-topic store (several
- * instances, later) are interchangeable; test/unit/state/checkpoint-store-contract.ts is what each
+ * instance), the in-memory store (tests of callers) and the compacted-Kafka-topic store (several
+ * instances, kafka-store.ts) are interchangeable; test/unit/state/checkpoint-store-contract.ts is what each
  * one must pass.
  *
  * The contract, for every implementation:

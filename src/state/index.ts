@@ -9,3 +9,5 @@ export { FileCheckpointStore, decodeName, encodeName } from './file-store.js';
 export type { FileCheckpointStoreOptions } from './file-store.js';
 export { MemoryCheckpointStore } from './memory-store.js';
 export type { MemoryBacking } from './memory-store.js';
+export { DEFAULT_STATE_TOPIC, KafkaCheckpointStore } from './kafka-store.js';
+export type { KafkaCheckpointStoreOptions } from './kafka-store.js';

@@ -27,7 +27,7 @@ windows: [10m, 1h, 2d]
 history: { bucket: 30s, fineSpan: 1h, coarseBucket: 2h, retention: 2d }
 lateness: 90s
 maxFuture: 1m
-checkpoint: { dir: /var/lib/headroom, interval: 10s }
+checkpoint: { store: kafka, dir: /var/lib/headroom, topic: headroom-eu-state, interval: 10s }
 http: { host: 0.0.0.0, port: 9500 }
 decode: { maxBytes: 65536, maxSegmentKeys: 2 }
 referenceReload: { watchFiles: false, debounce: 2s }
@@ -61,7 +61,7 @@ describe('parseConfig: valid files', () => {
     expect(config.history).toEqual({ bucketMs: 60_000, fineSpanMs: 7_200_000, coarseBucketMs: 3_600_000, retentionMs: 86_400_000 });
     expect(config.latenessMs).toBe(120_000);
     expect(config.maxFutureMs).toBe(300_000);
-    expect(config.checkpoint).toEqual({ dir: './state', intervalMs: 5_000 });
+    expect(config.checkpoint).toEqual({ store: 'file', dir: './state', topic: 'headroom-state', intervalMs: 5_000 });
     expect(config.http).toEqual({ host: '127.0.0.1', port: 9464 });
     expect(config.referenceReload).toEqual({ watchFiles: true, debounceMs: 500 });
     expect(config.decode).toEqual(DEFAULT_DECODE_LIMITS);
@@ -88,7 +88,7 @@ describe('parseConfig: valid files', () => {
     expect(damage?.window).toMatchObject({ bucketMs: 30_000, fineSpanMs: 3_600_000, coarseBucketMs: 7_200_000, retentionMs: 172_800_000, latenessMs: 90_000, maxFutureMs: 60_000, thresholds: [0.1, 0.25] });
     expect(any?.window.thresholds).toEqual([0.2]);
     expect(config.windows.map((w) => [w.name, w.durationMs])).toEqual([['10m', 600_000], ['1h', 3_600_000], ['2d', 172_800_000]]);
-    expect(config.checkpoint).toEqual({ dir: '/var/lib/headroom', intervalMs: 10_000 });
+    expect(config.checkpoint).toEqual({ store: 'kafka', dir: '/var/lib/headroom', topic: 'headroom-eu-state', intervalMs: 10_000 });
     expect(config.http).toEqual({ host: '0.0.0.0', port: 9500 });
     expect(config.decode).toEqual({ ...DEFAULT_DECODE_LIMITS, maxBytes: 65_536, maxSegmentKeys: 2 });
     expect(config.referenceReload).toEqual({ watchFiles: false, debounceMs: 2_000 });
@@ -185,6 +185,19 @@ describe('parseConfig: cross-field checks', () => {
 
   it('a topic listed as both scored events and outcomes', () => {
     expect(problemsOf('kafka: { brokers: ["h:1"], topics: [a], outcomeTopics: [a] }\n')).toEqual([expect.stringMatching(/^headroom\.yaml: kafka\.outcomeTopics\[0\]: "a" is also in kafka\.topics/)]);
+  });
+
+  it('a checkpoint store other than file or kafka; a kafka state topic that is also an input, outcome or dead-letter topic', () => {
+    expect(problemsOf(`${MINIMAL}checkpoint: { store: redis }\n`)).toEqual([expect.stringMatching(/^headroom\.yaml: checkpoint\.store: must be file or kafka/)]);
+    const kafka = 'kafka: { brokers: ["h:1"], topics: [scores], outcomeTopics: [verdicts], deadLetterTopic: rejected }\n';
+    for (const topic of ['scores', 'verdicts', 'rejected']) {
+      expect(problemsOf(`${kafka}checkpoint: { store: kafka, topic: ${topic} }\n`), topic).toEqual([
+        expect.stringMatching(new RegExp(`^headroom\\.yaml: checkpoint\\.topic: "${topic}" is also a topic of kafka; checkpoints need a topic of their own`)),
+      ]);
+    }
+    // The file store never writes the topic, so the name is not checked then.
+    expect(parseConfig(`${kafka}checkpoint: { store: file, topic: scores }\n`, 'h.yaml', {}).config.checkpoint.store).toBe('file');
+    expect(parseConfig(`${kafka}checkpoint: { store: kafka }\n`, 'h.yaml', {}).config.checkpoint).toMatchObject({ store: 'kafka', topic: 'headroom-state' });
   });
 
   it('a checkpoint interval below 100ms; 100ms itself is allowed', () => {

@@ -1,7 +1,7 @@
 /**
  * What every CheckpointStore must do (src/state/checkpoint-store.ts), as one suite registered per
- * implementation: checkpoint-stores.test.ts runs it for the file and in-memory stores, and a
- * Kafka-topic store will run it too. An implementation supplies a factory for a fresh, empty store and
+ * implementation: checkpoint-stores.test.ts runs it for the file and in-memory stores, and
+ * test/integration/checkpoint-kafka-store.test.ts for the Kafka-topic store on the real broker. An implementation supplies a factory for a fresh, empty store and
  * two abilities only it has: reopening the same storage (a restart) and damaging a stored checkpoint.
  */
 import { afterEach, beforeEach, describe, expect, it } from 'vitest';
