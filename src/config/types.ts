@@ -33,7 +33,7 @@ export interface KafkaConfig {
   readonly groupId: string;
   /** Topics of scored events. */
   readonly topics: readonly string[];
-  /** Topics of outcome events (delayed labels). */
+  /** Topics of outcome events (delayed labels): outcomeTopics[i] holds the outcomes of topics[i], partitioned alike. Empty or one per topic. */
   readonly outcomeTopics: readonly string[];
   /** Where rejected messages are copied; null counts them without copying. */
   readonly deadLetterTopic: string | null;
@@ -80,6 +80,8 @@ export interface HeadroomConfig {
   readonly history: HistoryConfig;
   readonly latenessMs: number;
   readonly maxFutureMs: number;
+  /** Delayed labels: a prediction and its outcome pair up within ttlMs of event time; maxPending entries per partition at most. */
+  readonly labels: { readonly ttlMs: number; readonly maxPending: number };
   readonly checkpoint: { readonly dir: string; readonly intervalMs: number };
   /** Reload the reference files when they change on disk (SIGHUP reloads them either way), after debounceMs of quiet. */
   readonly referenceReload: { readonly watchFiles: boolean; readonly debounceMs: number };
