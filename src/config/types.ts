@@ -33,7 +33,7 @@ export interface KafkaConfig {
   readonly groupId: string;
   /** Topics of scored events. */
   readonly topics: readonly string[];
-  /** Topics of outcome events (delayed labels): outcomeTopics[i] holds the outcomes of topics[i], partitioned alike. Empty or one per topic. */
+  /** Topics of outcome events (delayed labels): outcomeTopics[i] holds the outcomes of topics[i], partitioned alike; at most one per scored topic (a scored topic past the list's end has none). */
   readonly outcomeTopics: readonly string[];
   /** Where rejected messages are copied; null counts them without copying. */
   readonly deadLetterTopic: string | null;
