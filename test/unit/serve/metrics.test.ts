@@ -228,7 +228,7 @@ describe.skipIf(!havePromtool && !mustRunPromtool)('promtool check metrics', () 
     const { text, samples, types } = await scrape(withJoin, w.nowMs);
     // Every family must be there with samples, or a clean bill would prove little.
     for (const name of types.keys()) expect(find(samples, name).length, name).toBeGreaterThan(0);
-    expect(types.size).toBe(16);
+    expect(types.size).toBe(28); // 16 margin families and 12 of labels
     const result = checkMetrics(text);
     expect(result.stdout + result.stderr).toBe('');
     expect(result.status).toBe(0);
