@@ -21,9 +21,10 @@
  * cap the oldest entry by arrival goes to make room: a prediction counts as evicted, an outcome as
  * evicted, a tombstone goes silently (a duplicate of it then waits and ends as unmatched).
  *
- * Expiry scans from the oldest arrival and stops at the first entry still young: arrival order is
- * nearly time order, and an entry kept a little past its time cannot match wrongly, since a match
- * checks the two event times itself.
+ * Expiry goes by event time, not arrival: a min-heap of (time, entry) beside the id map, so an entry
+ * that arrived early with a late time (the closing prediction of a topic read ahead) never shields older
+ * entries behind it. Entries that left the map (matched with a new time, evicted) stay in the heap until
+ * they surface and are dropped then; the heap is rebuilt when it grows past twice the map.
  */
 import type { Label, Score } from '../events/index.js';
 import { badArgument, badState } from './fail.js';
@@ -101,6 +102,10 @@ export class PendingLabels {
   readonly ttlMs: number;
   readonly maxEntries: number;
   private readonly entries = new Map<string, Entry>();
+  // The expiry heap, as three parallel arrays (a packed double array for the times: no object per item).
+  private heapTimes: number[] = [];
+  private heapIds: string[] = [];
+  private heapEntries: Entry[] = [];
   private predictionWatermark: number | null = null;
   private outcomeWatermark: number | null = null;
   private waitingPredictions = 0;
@@ -141,7 +146,7 @@ export class PendingLabels {
       match = { prediction, label: e.label as Label };
       this.waitingOutcomes -= 1;
       this.counts.matched += 1;
-      this.tombstone(e, t);
+      this.tombstone(e, t, id);
     } else if (e.kind === OUTCOME) {
       // Too far apart in time to be one pair: the outcome gives up its place to the prediction.
       this.counts.outcomeUnmatched += 1;
@@ -171,7 +176,7 @@ export class PendingLabels {
       matched = { timeMs: e.timeMs, model: e.model, version: e.version, segment: e.segment, score: e.score };
       this.waitingPredictions -= 1;
       this.counts.matched += 1;
-      this.tombstone(e, e.timeMs);
+      this.tombstone(e, e.timeMs, id);
     } else if (e.kind === PREDICTION) {
       this.counts.outcomeUnmatched += 1; // its prediction is too far away in time; the prediction waits on
     } else {
@@ -187,9 +192,12 @@ export class PendingLabels {
     this.counts.outcomeBadLabel += 1;
   }
 
-  private tombstone(e: Entry, timeMs: number): void {
+  private tombstone(e: Entry, timeMs: number, id: string): void {
     e.kind = MATCHED;
-    e.timeMs = timeMs;
+    if (e.timeMs !== timeMs) {
+      e.timeMs = timeMs;
+      this.push(id, e);
+    }
     e.model = '';
     e.version = '';
     e.segment = NO_SEGMENT;
@@ -210,13 +218,79 @@ export class PendingLabels {
       }
     }
     this.entries.set(id, entry);
+    this.push(id, entry);
+  }
+
+  private push(id: string, entry: Entry): void {
+    if (this.heapTimes.length > 2 * this.entries.size + 1024) this.rebuildHeap();
+    const times = this.heapTimes;
+    let i = times.length;
+    times.push(entry.timeMs);
+    this.heapIds.push(id);
+    this.heapEntries.push(entry);
+    while (i > 0) {
+      const parent = (i - 1) >> 1;
+      if ((times[parent] as number) <= (times[i] as number)) break;
+      this.swap(i, parent);
+      i = parent;
+    }
+  }
+
+  private popTop(): void {
+    const last = this.heapTimes.length - 1;
+    this.swap(0, last);
+    this.heapTimes.pop();
+    this.heapIds.pop();
+    this.heapEntries.pop();
+    const times = this.heapTimes;
+    const n = times.length;
+    let i = 0;
+    for (;;) {
+      const l = 2 * i + 1;
+      const r = l + 1;
+      let m = i;
+      if (l < n && (times[l] as number) < (times[m] as number)) m = l;
+      if (r < n && (times[r] as number) < (times[m] as number)) m = r;
+      if (m === i) break;
+      this.swap(i, m);
+      i = m;
+    }
+  }
+
+  private swap(a: number, b: number): void {
+    const t = this.heapTimes[a] as number;
+    this.heapTimes[a] = this.heapTimes[b] as number;
+    this.heapTimes[b] = t;
+    const id = this.heapIds[a] as string;
+    this.heapIds[a] = this.heapIds[b] as string;
+    this.heapIds[b] = id;
+    const e = this.heapEntries[a] as Entry;
+    this.heapEntries[a] = this.heapEntries[b] as Entry;
+    this.heapEntries[b] = e;
+  }
+
+  private rebuildHeap(): void {
+    this.heapTimes = [];
+    this.heapIds = [];
+    this.heapEntries = [];
+    const entries = [...this.entries].sort((a, b) => a[1].timeMs - b[1].timeMs);
+    for (const [id, e] of entries) {
+      this.heapTimes.push(e.timeMs);
+      this.heapIds.push(id);
+      this.heapEntries.push(e);
+    }
   }
 
   private expire(): void {
     if (this.predictionWatermark === null || this.outcomeWatermark === null) return;
     const before = Math.min(this.predictionWatermark, this.outcomeWatermark) - this.ttlMs;
-    for (const [id, e] of this.entries) {
-      if (e.timeMs >= before) break;
+    while (this.heapTimes.length > 0 && (this.heapTimes[0] as number) < before) {
+      const id = this.heapIds[0] as string;
+      const e = this.heapEntries[0] as Entry;
+      const time = this.heapTimes[0] as number;
+      this.popTop();
+      // Stale: the id left the map (evicted, replaced) or its entry took a new time (pushed again).
+      if (this.entries.get(id) !== e || e.timeMs !== time) continue;
       this.entries.delete(id);
       if (e.kind === PREDICTION) {
         this.waitingPredictions -= 1;

@@ -58,6 +58,17 @@ describe('PendingLabels', () => {
     expect(store.waiting().predictions).toBe(1);
   });
 
+  it('expires by event time, not arrival: an early arrival with a late time does not shield older entries', () => {
+    const store = new PendingLabels({ ttlMs: 10 * MIN, maxEntries: 100 });
+    // The scored topic is read ahead: its closing prediction, an hour on, arrives before the outcomes.
+    store.addPrediction('close', prediction(T0 + 60 * MIN));
+    store.addOutcome('late-1', T0 + 20 * MIN, 1);
+    store.addOutcome('late-2', T0 + 21 * MIN, 1);
+    store.addOutcome('close', T0 + 60 * MIN, 1);
+    expect(store.counts).toMatchObject({ matched: 1, outcomeUnmatched: 2 });
+    expect(store.waiting()).toEqual({ predictions: 0, outcomes: 0 });
+  });
+
   it('evicts the oldest entry at the cap and counts it by kind', () => {
     const store = new PendingLabels({ ttlMs: 600 * MIN, maxEntries: 3 });
     store.addPrediction('p1', prediction(T0));
