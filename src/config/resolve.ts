@@ -71,6 +71,9 @@ export function resolveParsed(
   k.outcomeTopics.forEach((t, i) => {
     if (k.topics.includes(t)) report(['kafka', 'outcomeTopics', i], `${JSON.stringify(t)} is also in kafka.topics; a topic holds scored events or outcomes, not both`);
   });
+  if (k.outcomeTopics.length > k.topics.length) {
+    report(['kafka', 'outcomeTopics'], `lists ${k.outcomeTopics.length} topics for ${k.topics.length} scored topic(s); outcomeTopics[i] holds the outcomes of topics[i], so list at most one per scored topic, in the same order`);
+  }
   if (k.deadLetterTopic !== null && (k.topics.includes(k.deadLetterTopic) || k.outcomeTopics.includes(k.deadLetterTopic))) {
     report(['kafka', 'deadLetterTopic'], `${JSON.stringify(k.deadLetterTopic)} is also an input topic; rejected messages would be read back and rejected again forever — use a topic of its own, e.g. "headroom-rejected"`);
   }
@@ -197,6 +200,7 @@ export function resolveParsed(
     history,
     latenessMs: parsed.lateness,
     maxFutureMs: parsed.maxFuture,
+    labels: { ttlMs: parsed.labels.ttl, maxPending: parsed.labels.maxPending },
     checkpoint: { store: c.store, dir: c.dir, topic: c.topic, intervalMs: c.interval },
     referenceReload: { watchFiles: parsed.referenceReload.watchFiles, debounceMs: parsed.referenceReload.debounce },
     alerts: { rules: parsed.alerts.rules, evaluateEveryMs: parsed.alerts.evaluateEvery, webhook: parsed.alerts.webhook ?? null, linkBase: parsed.alerts.linkBase },

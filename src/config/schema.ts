@@ -98,6 +98,12 @@ export const configSchema = section('', {
   }).prefault({}),
   lateness: duration.prefault(formatDuration(DEFAULT_WINDOW_CONFIG.latenessMs)),
   maxFuture: duration.prefault(formatDuration(DEFAULT_WINDOW_CONFIG.maxFutureMs)),
+  // Delayed labels (kafka.outcomeTopics): how long a prediction waits for its outcome, in event time, and
+  // how many waiting predictions, outcomes and matched ids one partition holds at most.
+  labels: section('labels', {
+    ttl: duration.prefault('1d'),
+    maxPending: wholeAtLeast(1).default(100_000),
+  }).prefault({}),
   checkpoint: section('checkpoint', {
     // file: one watcher per group; kafka: a compacted topic, so a partition's state follows it to another watcher.
     store: z.enum(['file', 'kafka'], { error: 'must be file or kafka' }).default('file'),

@@ -33,7 +33,7 @@ export interface KafkaConfig {
   readonly groupId: string;
   /** Topics of scored events. */
   readonly topics: readonly string[];
-  /** Topics of outcome events (delayed labels). */
+  /** Topics of outcome events (delayed labels): outcomeTopics[i] holds the outcomes of topics[i], partitioned alike; at most one per scored topic (a scored topic past the list's end has none). */
   readonly outcomeTopics: readonly string[];
   /** Where rejected messages are copied; null counts them without copying. */
   readonly deadLetterTopic: string | null;
@@ -80,6 +80,8 @@ export interface HeadroomConfig {
   readonly history: HistoryConfig;
   readonly latenessMs: number;
   readonly maxFutureMs: number;
+  /** Delayed labels: a prediction and its outcome pair up within ttlMs of event time; maxPending entries per partition at most. */
+  readonly labels: { readonly ttlMs: number; readonly maxPending: number };
   /**
    * Where partition states are kept: files under `dir`, or the compacted Kafka topic `topic`. The alert
    * state is a file under `dir` either way.

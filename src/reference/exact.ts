@@ -66,6 +66,21 @@ export class CalibrationCounts {
     return this.total;
   }
 
+  /** Per bin: events, positives and the sum of p; a checkpoint carries these (src/labels). */
+  toState(): { counts: number[]; positives: number[]; sums: number[] } {
+    return { counts: [...this.counts], positives: [...this.positives], sums: [...this.sums] };
+  }
+
+  /** The caller has checked the lengths (CALIBRATION_BINS each) and that positives <= counts. */
+  static fromState(state: { readonly counts: readonly number[]; readonly positives: readonly number[]; readonly sums: readonly number[] }): CalibrationCounts {
+    const out = new CalibrationCounts();
+    out.counts.set(state.counts);
+    out.positives.set(state.positives);
+    out.sums.set(state.sums);
+    out.total = state.counts.reduce((a, b) => a + b, 0);
+    return out;
+  }
+
   add(p: number, positive: boolean): void {
     let bin = 0;
     while (bin < CALIBRATION_BINS - 1 && edge(bin + 1) < p) bin++;

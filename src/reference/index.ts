@@ -1,7 +1,7 @@
 /** Reference files (`headroom-reference/1`): built from decoded events, read back as comparison-ready views. */
 export { buildReference, ReferenceBuilder } from './build.js';
 export type { BuildReferenceOptions } from './build.js';
-export { invertedCdfQuantiles } from './exact.js';
+export { CalibrationCounts, invertedCdfQuantiles } from './exact.js';
 export { referenceFileName } from './file-name.js';
 export { ALL_SEGMENT, CALIBRATION_BINS, DECILE_LEVELS, REFERENCE_FORMAT, referenceSchema } from './format.js';
 export type { CalibrationBin, LabelsRecord, LowMarginEntry, ReferenceFile, SegmentRecord } from './format.js';

@@ -20,6 +20,8 @@ export function reportCsv(report: ReplayReport): string {
   const header = ['start', 'end', 'model', 'version', 'segment', 'count', 'late', 'future', 'reference'];
   for (const t of thresholds) header.push(`low_margin_${t}`, `low_margin_${t}_lower`, `low_margin_${t}_upper`, `reference_low_margin_${t}`);
   header.push('ks', 'ks_p_value', 'psi', 'wasserstein', ...REPORT_QUANTILE_LEVELS.map((q) => `quantile_${q}`), 'alerts');
+  // Label columns last, so the columns before them keep their places.
+  header.push('labelled', 'error_rate', 'error_rate_lower', 'error_rate_upper', 'reference_error_rate', 'ece', 'reference_ece', 'label_free_error');
   const rows = [header.join(',')];
   for (const e of report.windows) {
     const row: (string | number | null | undefined)[] = [e.start, e.end, e.model, e.version, e.segment, e.count, e.late, e.future, e.reference];
@@ -29,6 +31,8 @@ export function reportCsv(report: ReplayReport): string {
     }
     row.push(e.ks?.statistic, e.ks?.pValue, e.psi, e.wasserstein, ...REPORT_QUANTILE_LEVELS.map((q) => e.quantiles[String(q)]));
     row.push(e.alerts.map((a) => a.rule).join(' '));
+    const l = e.labels;
+    row.push(l?.n, l?.errorRate, l?.errorInterval[0], l?.errorInterval[1], l?.referenceErrorRate, l?.ece, l?.referenceEce, l?.labelFreeError);
     rows.push(row.map(cell).join(','));
   }
   return `${rows.join('\n')}\n`;

@@ -65,6 +65,24 @@ export interface ReportEntry {
   /** Live confidence-margin quantiles by level ("0.05": ...); null when the window is empty. */
   readonly quantiles: Readonly<Record<string, number | null>>;
   readonly alerts: readonly AlertEntry[];
+  /** Label figures of the window's predictions (src/labels/figures.ts); null when it has none to show. */
+  readonly labels: LabelEntry | null;
+}
+
+export interface LabelEntry {
+  /** Labelled predictions in the window. */
+  readonly n: number;
+  /** Exact share with signed margin <= 0 and its Wilson 95% interval; null share when n = 0. */
+  readonly errorRate: number | null;
+  readonly errorInterval: readonly [number, number];
+  readonly referenceErrorRate: number | null;
+  /** P(signed margin <= θ), live and reference, per θ of the grid. */
+  readonly marginLoss: readonly { readonly theta: number; readonly live: number | null; readonly reference: number | null }[];
+  /** Expected calibration error (10 bins), live and reference; null without probability scores. */
+  readonly ece: number | null;
+  readonly referenceEce: number | null;
+  /** E[min(p, 1 − p)]: the error rate only a calibrated model would have; null unless every event stated a probability. */
+  readonly labelFreeError: number | null;
 }
 
 /** Why a window's CDF was kept (src/replay/cdf.ts): the series' first and last windows, and its largest KS D. */
@@ -160,7 +178,18 @@ export function windowFigures(closed: ClosedWindow, windowName: string, referenc
   const end = new Date(closed.endMs).toISOString();
   return closed.view.series.map((s) => {
     const reference = references(s.model, s.version)?.segmentFor(s.segment);
-    const [v] = viewReports({ model: s.model, version: s.version, segment: s.segment, events: s.events, windows: s.windows, reference }, [spec], REPORT_QUANTILE_LEVELS);
+    const snapshot = {
+      model: s.model,
+      version: s.version,
+      segment: s.segment,
+      events: s.events,
+      windows: s.windows,
+      reference,
+      labelled: s.labelled,
+      probabilistic: s.events > 0 && s.probabilityScored === s.events,
+      ...(s.labels === undefined ? {} : { labels: s.labels }),
+    };
+    const [v] = viewReports(snapshot, [spec], REPORT_QUANTILE_LEVELS);
     if (v === undefined) throw new RangeError(`view ${closed.viewMs} ms is longer than the series keeps`);
     const counters = s.windows.counters();
     const quantiles: Record<string, number | null> = {};
@@ -181,6 +210,19 @@ export function windowFigures(closed: ClosedWindow, windowName: string, referenc
       wasserstein: v.drift?.wasserstein ?? null,
       quantiles,
       alerts: [],
+      labels:
+        v.labels === null
+          ? null
+          : {
+              n: v.labels.n,
+              errorRate: v.labels.errorRate.share,
+              errorInterval: [v.labels.errorRate.lower, v.labels.errorRate.upper] as const,
+              referenceErrorRate: v.labels.referenceErrorRate,
+              marginLoss: v.labels.marginLoss,
+              ece: v.labels.calibration?.ece ?? null,
+              referenceEce: v.labels.calibration?.referenceEce ?? null,
+              labelFreeError: v.labels.labelFree?.estimate ?? null,
+            },
     };
     return { entry, live: v.summary.distribution, reference: reference?.confidence };
   });

@@ -67,6 +67,7 @@ function viewJson(v: ViewReport, nowMs: number) {
     quantiles: v.quantiles,
     // PSI's open end bins (±Infinity) come out as null: JSON has no infinities.
     comparison: v.drift,
+    labels: v.labels,
   };
 }
 
@@ -106,6 +107,7 @@ export function createApiRouter(options: ApiOptions): Router {
       segment: s.segment,
       events: s.events,
       counters: s.windows.counters(),
+      labelled: s.labelled ?? 0,
       thresholds: s.windows.config.thresholds,
       reference: referenceJson(s),
       views: viewReports(s, views, quantiles).map((v) => viewJson(v, now)),
@@ -137,6 +139,11 @@ export function createApiRouter(options: ApiOptions): Router {
           ? { state: 'none' as const }
           : { state: 'loaded' as const, segment: s.reference.name, count: s.reference.confidence.count, points: cdfPoints(s.reference.confidence, points) },
     });
+  });
+
+  router.get('/labels', (_req, res) => {
+    const report = source.labelJoin?.();
+    res.json(report === undefined ? { outcomes: 0, labelledInline: 0, join: null, waiting: null } : report);
   });
 
   router.get('/alerts', (_req, res) => {

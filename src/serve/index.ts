@@ -6,6 +6,7 @@ export { createMetrics } from './metrics.js';
 export type { HeadroomMetrics, MetricsOptions } from './metrics.js';
 export type {
   AlertReport,
+  LabelJoinReport,
   PartitionInfo,
   Readiness,
   ReferenceFileReport,

@@ -10,6 +10,8 @@
  */
 import { Counter, Gauge } from 'prom-client';
 import type { Registry } from 'prom-client';
+import { JOIN_RESULTS } from '../labels/index.js';
+import type { JoinCounts } from '../labels/index.js';
 import type { SeriesSnapshot, ViewSpec, WatchedSeriesSource } from './model.js';
 import { checkQuantiles, checkViews, decimalLabel, METRIC_QUANTILE_LEVELS } from './options.js';
 import { viewReports, type ViewReport } from './report.js';
@@ -31,6 +33,18 @@ export interface HeadroomMetrics {
 }
 
 const SERIES = ['model', 'version', 'segment'] as const;
+
+/** Label values of headroom_label_join_total{result}: stable, snake_case. */
+const JOIN_RESULT_LABELS: Record<keyof JoinCounts, string> = {
+  matched: 'matched',
+  predictionExpired: 'prediction_expired',
+  predictionEvicted: 'prediction_evicted',
+  predictionDuplicate: 'prediction_duplicate',
+  outcomeUnmatched: 'outcome_unmatched',
+  outcomeEvicted: 'outcome_evicted',
+  outcomeDuplicate: 'outcome_duplicate',
+  outcomeBadLabel: 'outcome_bad_label',
+};
 const WINDOWED = [...SERIES, 'window'] as const;
 const PARTITION = ['topic', 'partition'] as const;
 
@@ -170,6 +184,61 @@ export function createMetrics(options: MetricsOptions): HeadroomMetrics {
   drift('headroom_drift_ks', 'Kolmogorov-Smirnov D between the window and the reference confidence margins.', (d) => d.ks.statistic);
   drift('headroom_drift_psi', 'Population stability index of the window over the reference deciles.', (d) => d.psi.value);
   drift('headroom_drift_wasserstein', 'Wasserstein-1 distance between the window and the reference confidence margins.', (d) => d.wasserstein);
+  // Labels (src/labels): observed figures by view, the reference's beside them, and the join's counts.
+  counter('headroom_labelled_total', 'Predictions with a known label (carried inline or joined from an outcome), routed to the series.', SERIES, (emit) => {
+    for (const f of current()) if (f.snapshot.labelled !== undefined) emit(f.labels, f.snapshot.labelled);
+  });
+  const labelled = (name: string, help: string, pick: (l: NonNullable<ViewReport['labels']>) => number | null): void =>
+    gauge(name, help, WINDOWED, (emit) => {
+      for (const f of current()) {
+        for (const v of f.views) {
+          const value = v.labels === null ? null : pick(v.labels);
+          if (value !== null) emit({ ...f.labels, window: v.window }, value);
+        }
+      }
+    });
+  labelled('headroom_window_labelled_events', 'Labelled predictions among the window\'s predictions (by prediction time).', (l) => l.n);
+  labelled('headroom_error_ratio', 'Exact share of labelled predictions in the window with signed margin <= 0 (wrong or on the boundary).', (l) => l.errorRate.share);
+  labelled('headroom_calibration_error', 'Expected calibration error (10 equal-width bins) of the window\'s labelled probability scores.', (l) => l.calibration?.ece ?? null);
+  labelled(
+    'headroom_label_free_error_ratio',
+    'E[min(p, 1-p)] over the window\'s predictions: the error rate of a calibrated model, known before any label.',
+    (l) => l.labelFree?.estimate ?? null,
+  );
+  gauge('headroom_margin_loss_ratio', 'Exact share of labelled predictions in the window with signed margin <= threshold.', [...WINDOWED, 'threshold'], (emit) => {
+    for (const f of current()) {
+      for (const v of f.views) for (const m of v.labels?.marginLoss ?? []) if (m.live !== null) emit({ ...f.labels, window: v.window, threshold: decimalLabel(m.theta) }, m.live);
+    }
+  });
+  // Reference figures are the same in every view: the first view carries them.
+  gauge('headroom_reference_error_ratio', 'Share of labelled reference predictions with signed margin <= 0, as the reference file stores it.', SERIES, (emit) => {
+    for (const f of current()) {
+      const r = f.views[0]?.labels?.referenceErrorRate ?? null;
+      if (r !== null) emit(f.labels, r);
+    }
+  });
+  gauge('headroom_reference_margin_loss_ratio', 'Share of labelled reference predictions with signed margin <= threshold (from its signed-margin digest).', [...SERIES, 'threshold'], (emit) => {
+    for (const f of current()) for (const m of f.views[0]?.labels?.marginLoss ?? []) if (m.reference !== null) emit({ ...f.labels, threshold: decimalLabel(m.theta) }, m.reference);
+  });
+  gauge('headroom_reference_calibration_error', 'Expected calibration error of the reference file\'s calibration bins.', SERIES, (emit) => {
+    for (const f of current()) {
+      const r = f.views[0]?.labels?.calibration?.referenceEce ?? null;
+      if (r !== null) emit(f.labels, r);
+    }
+  });
+  if (source.labelJoin !== undefined) {
+    const join = source.labelJoin.bind(source);
+    counter('headroom_label_join_total', 'Predictions and outcomes leaving the delayed-label join, by result.', ['result'], (emit) => {
+      const j = join().join;
+      for (const k of JOIN_RESULTS) emit({ result: JOIN_RESULT_LABELS[k] }, j[k]);
+    });
+    counter('headroom_outcomes_total', 'Outcome messages decoded and offered to the join (rejected ones are in headroom_events_rejected_total).', [], (emit) => emit({}, join().outcomes));
+    gauge('headroom_labels_waiting', 'Predictions waiting for their outcome, and outcomes waiting for their prediction, now.', ['side'], (emit) => {
+      const w = join().waiting;
+      emit({ side: 'prediction' }, w.predictions);
+      emit({ side: 'outcome' }, w.outcomes);
+    });
+  }
   gauge('headroom_consumer_lag_messages', 'Messages between the consumer position and the partition high watermark.', PARTITION, (emit) => {
     for (const p of source.partitions()) if (p.lagMessages !== null) emit({ topic: p.topic, partition: String(p.partition) }, p.lagMessages);
   });

@@ -5,6 +5,7 @@
  * partitions' windows inside series() instead of keeping a merged copy up to date.
  */
 import type { AlertRule, AlertStatus, AlertTransition } from '../alerts/index.js';
+import type { JoinCounts, LabelWindows } from '../labels/index.js';
 import type { ReferenceSegment } from '../reference/index.js';
 import type { MarginWindows } from '../sketch/index.js';
 
@@ -33,6 +34,20 @@ export interface SeriesSnapshot extends SeriesKey {
   readonly referenceOrigin?: ReferenceOrigin;
   /** The oldest of the partitions' watermarks for the series (see mergeView); absent: the windows' own. */
   readonly settledWatermarkMs?: number | null;
+  /** Labelled predictions (inline and joined) since the state was created; absent: none. A counter, as `events`. */
+  readonly labelled?: number;
+  /** Labelled predictions by prediction time (src/labels); absent until the first label. */
+  readonly labels?: LabelWindows;
+  /** True when every event of the series stated a probability, so the label-free error estimate applies. */
+  readonly probabilistic?: boolean;
+}
+
+/** The delayed-label join over the owned partitions. */
+export interface LabelJoinReport {
+  readonly outcomes: number;
+  readonly labelledInline: number;
+  readonly join: JoinCounts;
+  readonly waiting: { readonly predictions: number; readonly outcomes: number };
 }
 
 /**
@@ -94,6 +109,8 @@ export interface WatchedSeriesSource {
   references?(): ReferenceReport;
   /** Alert rules, every alert's phase and the latest transitions; a source without alerting leaves it out. */
   alerts?(): AlertReport;
+  /** The delayed-label join; a source without one leaves it out. */
+  labelJoin?(): LabelJoinReport;
 }
 
 export interface AlertReport {

@@ -3,7 +3,10 @@
  * one function so the two can never disagree. Pure: no clock, no I/O.
  */
 import { compareToReference, wilsonInterval } from '../compare/index.js';
+import { labelFigures } from '../labels/index.js';
+import type { LabelFigures } from '../labels/index.js';
 import type { KsResult, LowMarginReport, PsiResult, QuantileShift } from '../compare/index.js';
+import { LabelSummary } from '../labels/index.js';
 import type { MarginSummary } from '../sketch/index.js';
 import type { SeriesSnapshot, ViewSpec } from './model.js';
 
@@ -24,6 +27,19 @@ export interface ViewReport {
   readonly quantiles: readonly QuantileShift[];
   /** null when there is no reference or either side is empty: no figure rather than a made-up one. */
   readonly drift: Drift | null;
+  /**
+   * Label figures of the predictions in the view (src/labels/figures.ts); null when the series has no
+   * label yet and its events do not state probabilities (nothing to show, not even the label-free estimate).
+   */
+  readonly labels: LabelFigures | null;
+}
+
+function labelsOf(snapshot: SeriesSnapshot, durationMs: number, confidence: MarginSummary): LabelFigures | null {
+  const probabilistic = snapshot.probabilistic === true;
+  if (snapshot.labels === undefined && !probabilistic) return null;
+  const w = snapshot.windows.watermarkMs;
+  const labels = snapshot.labels?.view(durationMs, w).summary ?? new LabelSummary(snapshot.windows.config.compression);
+  return labelFigures({ labels, confidence, probabilistic, reference: snapshot.reference?.labels });
 }
 
 /**
@@ -45,6 +61,7 @@ export function viewReports(snapshot: SeriesSnapshot, views: readonly ViewSpec[]
         lowMargin: counts.map((c) => ({ threshold: c.threshold, live: wilsonInterval(c.low, c.count), referenceShare: null, difference: null })),
         quantiles: quantiles.map((q) => ({ q, live: live.count > 0 ? live.distribution.quantile(q) : null, reference: null, shift: null })),
         drift: null,
+        labels: labelsOf(snapshot, spec.durationMs, live),
       });
       continue;
     }
@@ -53,7 +70,7 @@ export function viewReports(snapshot: SeriesSnapshot, views: readonly ViewSpec[]
       report.state === 'ok' && report.ks !== null && report.psi !== null && report.wasserstein !== null
         ? { ks: report.ks, psi: report.psi, wasserstein: report.wasserstein }
         : null;
-    out.push({ ...base, lowMargin: report.lowMargin, quantiles: report.quantileShifts, drift });
+    out.push({ ...base, lowMargin: report.lowMargin, quantiles: report.quantileShifts, drift, labels: labelsOf(snapshot, spec.durationMs, live) });
   }
   return out;
 }

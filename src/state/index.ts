@@ -2,7 +2,7 @@
 export { ALL_SEGMENT, DEFAULT_MAX_SERIES, OTHER_SEGMENT_VALUE, SeriesRouter, describeSeries, routingConfig, splitSegment } from './routing.js';
 export type { RoutedSeries, RoutingConfig, RoutingOptions, SeriesId } from './routing.js';
 export { ANY_MODEL, PARTITION_STATE_FORMAT, PartitionState, mergeView, parsePartitionState, partitionStateSchema } from './partition-state.js';
-export type { ApplyOutcome, MergedView, ModelSettings, PartitionCounts, PartitionSeries, PartitionStateJson, PartitionStateOptions, SavedPartitionState, SeriesCounts, SeriesView } from './partition-state.js';
+export type { ApplyOutcome, MergedView, ModelSettings, OutcomeSettings, PartitionCounts, PartitionSeries, PartitionStateJson, PartitionStateOptions, SavedPartitionState, SeriesCounts, SeriesView } from './partition-state.js';
 export { checkGroup, checkKey, corrupt as checkpointCorrupt, closedError as checkpointClosed, decodeCheckpoint, encodeCheckpoint } from './checkpoint-store.js';
 export type { CheckpointKey, CheckpointStore } from './checkpoint-store.js';
 export { FileCheckpointStore, decodeName, encodeName } from './file-store.js';

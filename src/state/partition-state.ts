@@ -23,7 +23,10 @@
 import { z } from 'zod';
 import { isHeadroomError } from '../errors.js';
 import { isRejectionReason } from '../events/index.js';
-import type { RejectionReason, ScoredEvent } from '../events/index.js';
+import type { Label, OutcomeEvent, RejectionReason, ScoredEvent } from '../events/index.js';
+import { LabelWindows, PendingLabels, emptyJoinCounts, positiveProbability } from '../labels/index.js';
+import type { JoinCounts, WaitingPrediction } from '../labels/index.js';
+import { binaryLabelSign, signedMargin } from '../margin/index.js';
 import type { Margins } from '../margin/index.js';
 import { MarginWindows, sameWindowConfig, windowConfig } from '../sketch/index.js';
 import type { AddOutcome, WindowConfig, WindowOptions, WindowState } from '../sketch/index.js';
@@ -44,11 +47,22 @@ export interface ModelSettings extends RoutingOptions {
   readonly window?: WindowOptions;
 }
 
+/** Delayed labels: partition p of `topic` (the outcome topic) joins partition p of the scored topic. */
+export interface OutcomeSettings {
+  readonly topic: string;
+  /** Event-time distance within which a prediction and an outcome make a pair; entries expire after it. */
+  readonly ttlMs: number;
+  /** Waiting predictions, waiting outcomes and matched ids held at most; the oldest go first. */
+  readonly maxPending: number;
+}
+
 export interface PartitionStateOptions {
   readonly topic: string;
   readonly partition: number;
   /** Events of a model with no entry here (and no ANY_MODEL entry) are counted as unwatched. */
   readonly models: readonly ModelSettings[];
+  /** The outcome topic whose partition `partition` this state also consumes; absent: inline labels only. */
+  readonly outcomes?: OutcomeSettings;
 }
 
 interface ResolvedModel extends RoutingConfig {
@@ -62,11 +76,15 @@ export interface SeriesCounts {
   readonly labelled: number;
   /** Labelled events with signed margin <= 0: the model was wrong (or on the boundary). */
   readonly wrong: number;
+  /** Events whose score stated a probability (probability or logit): the label-free estimate needs all of them to. */
+  readonly probabilityScored: number;
 }
 
 export interface PartitionSeries extends SeriesId, SeriesCounts {
   /** The live windows: read them (view()), do not add to them. */
   readonly windows: MarginWindows;
+  /** Labelled predictions by prediction time; undefined until the first label. */
+  readonly labels: LabelWindows | undefined;
 }
 
 export interface PartitionCounts {
@@ -79,6 +97,13 @@ export interface PartitionCounts {
   readonly rejected: Readonly<Partial<Record<RejectionReason, number>>>;
   /** Events folded into `k=other`, per model and key. */
   readonly folded: Readonly<Record<string, Readonly<Record<string, number>>>>;
+  /** Events of watched models that carried their label (counted at once, never waiting). */
+  readonly labelledInline: number;
+  /** Outcome messages decoded and offered to the join (rejected ones are in `rejected`). */
+  readonly outcomes: number;
+  readonly join: JoinCounts;
+  /** Predictions and outcomes waiting for their partner now. */
+  readonly waiting: { readonly predictions: number; readonly outcomes: number };
 }
 
 export type ApplyOutcome = AddOutcome | 'unwatched' | 'duplicate';
@@ -93,7 +118,9 @@ const seriesSchema = z.object({
   events: count,
   labelled: count,
   wrong: count,
+  probabilityScored: count.optional(),
   windows: z.unknown(),
+  labels: z.unknown().optional(),
 });
 
 export const partitionStateSchema = z.object({
@@ -109,8 +136,13 @@ export const partitionStateSchema = z.object({
     future: count,
     rejected: z.record(z.string().refine((k: string): boolean => isRejectionReason(k), 'is not a rejection reason'), count),
     folded: z.record(z.string(), z.record(z.string(), count)),
+    labelledInline: count.optional(),
   }),
   series: z.array(seriesSchema),
+  /** Present when an outcome topic is joined: its partition's next offset and the pending store, checkpointed together with the scored offset. */
+  outcomes: z
+    .object({ topic: z.string().min(1), nextOffset: offsetText.nullable(), decoded: count, pending: z.unknown() })
+    .optional(),
 });
 
 /** The JSON form of a partition state, as checked on restore (the windows are checked by MarginWindows.fromState). */
@@ -120,6 +152,13 @@ export type PartitionStateJson = z.infer<typeof partitionStateSchema>;
 export type SavedPartitionState = Omit<PartitionStateJson, 'series'> & {
   series: (Omit<PartitionStateJson['series'][number], 'windows'> & { windows: WindowState })[];
 };
+
+interface OutcomeSide {
+  readonly topic: string;
+  next: bigint | null;
+  decoded: number;
+  pending: PendingLabels;
+}
 
 /**
  * Checks the shape of a stored state (not yet the windows inside, which fromState() checks). Throws
@@ -136,7 +175,23 @@ class Series {
   events = 0;
   labelled = 0;
   wrong = 0;
+  probabilityScored = 0;
+  labels: LabelWindows | undefined = undefined;
   constructor(readonly windows: MarginWindows) {}
+
+  /** One label, at the prediction's time; `toWindows` false: counted, but the prediction itself was not added (late or future). */
+  label(signed: number, p: number | undefined, positive: boolean, timeMs: number, toWindows: boolean): void {
+    this.labelled += 1;
+    if (signed <= 0) this.wrong += 1;
+    if (!toWindows) return;
+    this.labels ??= new LabelWindows(this.windows.config);
+    this.labels.add(signed, p, positive, timeMs, this.windows.watermarkMs ?? timeMs);
+  }
+}
+
+/** The label as the calibration bins need it: is it the positive class? (False for class names: no bins there.) */
+function isPositive(label: Label | undefined): boolean {
+  return label !== undefined && binaryLabelSign(label) === 1;
 }
 
 /**
@@ -163,6 +218,8 @@ export class PartitionState {
   private late = 0;
   private future = 0;
   private readonly rejected = new Map<RejectionReason, number>();
+  private labelledInline = 0;
+  private outcomeSide: OutcomeSide | undefined;
 
   constructor(options: PartitionStateOptions) {
     if (typeof options.topic !== 'string' || options.topic === '') throw badArgument('topic', 'must be a non-empty name', options.topic);
@@ -178,6 +235,11 @@ export class PartitionState {
       if (byName.has(m.name)) throw badArgument(`models[${i}].name`, `repeats ${JSON.stringify(m.name)}`, m.name);
       byName.set(m.name, { ...routingConfig(m, `models[${i}].`), window: windowConfig(m.window ?? {}) });
     });
+    const o = options.outcomes;
+    if (o !== undefined) {
+      if (typeof o.topic !== 'string' || o.topic === '' || o.topic === options.topic) throw badArgument('outcomes.topic', 'must be a topic name other than the scored topic', o.topic);
+      this.outcomeSide = { topic: o.topic, next: null, decoded: 0, pending: new PendingLabels({ ttlMs: o.ttlMs, maxEntries: o.maxPending }) };
+    }
     const any = byName.get(ANY_MODEL);
     this.router = new SeriesRouter<Series, ResolvedModel>(
       (model) => byName.get(model) ?? any,
@@ -222,24 +284,112 @@ export class PartitionState {
       return 'unwatched';
     }
     const signed = margins.signed;
+    const p = positiveProbability(event.score);
+    const probability = p === undefined ? 0 : 1;
     let outcome: AddOutcome = 'added';
     for (let i = 0; i < n; i += 1) {
       const series = targets[i] as Series;
       const result = series.windows.add(margins.confidence, event.timeMs, nowMs);
       if (i === 0) outcome = result;
       series.events += 1;
-      if (signed !== undefined) {
-        series.labelled += 1;
-        if (signed <= 0) series.wrong += 1;
-      }
+      series.probabilityScored += probability;
+      if (signed !== undefined) series.label(signed, p, isPositive(event.label), event.timeMs, result === 'added');
     }
     targets.length = 0; // drop the references, so a series is not kept alive by the scratch array
     this.events += 1;
+    if (signed !== undefined) this.labelledInline += 1;
+    // Only with an outcome topic, and only for a prediction that can be labelled later: one test per event otherwise.
+    else if (this.outcomeSide !== undefined && outcome === 'added' && event.label === undefined && margins.predicted !== undefined) this.wait(event);
     if (outcome === 'late') this.late += 1;
     else if (outcome === 'future') this.future += 1;
     else if (this.watermark === null || event.timeMs > this.watermark) this.watermark = event.timeMs;
     this.next = at + 1n;
     return outcome;
+  }
+
+  private wait(event: ScoredEvent): void {
+    const all = this.router.idOfAll(event.model, event.version);
+    const prediction: WaitingPrediction = {
+      timeMs: event.timeMs,
+      // The `all` series' own strings: a waiting prediction then shares model and version with every other.
+      model: all?.model ?? event.model,
+      version: all?.version ?? event.version,
+      segment: event.segment,
+      score: event.score,
+    };
+    const match = (this.outcomeSide as OutcomeSide).pending.addPrediction(event.id, prediction);
+    if (match !== undefined) this.labelLater(match.prediction, match.label, true);
+  }
+
+  /** Feeds a matched pair to the prediction's series. False when the label does not fit the score. */
+  private labelLater(prediction: WaitingPrediction, label: Label, counted: boolean): boolean {
+    const signed = signedMargin(prediction.score, label);
+    if (!signed.ok || signed.value === undefined) {
+      if (counted) (this.outcomeSide as OutcomeSide).pending.countBadLabel();
+      return false;
+    }
+    const targets = this.targets;
+    const n = this.router.route(prediction as unknown as ScoredEvent, targets);
+    const p = positiveProbability(prediction.score);
+    const positive = isPositive(label);
+    for (let i = 0; i < n; i += 1) (targets[i] as Series).label(signed.value, p, positive, prediction.timeMs, true);
+    targets.length = 0;
+    return true;
+  }
+
+  /** The outcome topic joined with this partition; undefined without one. */
+  get outcomeTopic(): string | undefined {
+    return this.outcomeSide?.topic;
+  }
+
+  /** The outcome partition's offset to consume next; null before its first message or without an outcome topic. */
+  get outcomeNextOffset(): string | null {
+    const next = this.outcomeSide?.next;
+    return next === undefined || next === null ? null : next.toString();
+  }
+
+  /**
+   * One decoded outcome at `offset` of the outcome partition. A label that does not fit its waiting
+   * prediction's score is rejected (bad_label, counted with the other rejections) and the prediction
+   * waits on. Returns what happened: 'matched', 'held' (waiting, a duplicate or unmatched: see the join
+   * counts), 'rejected' or 'duplicate' (offset already consumed).
+   */
+  applyOutcome(outcome: OutcomeEvent, offset: string): 'matched' | 'held' | 'rejected' | 'duplicate' {
+    const side = this.requireOutcomes();
+    const at = checkOffset(offset);
+    if (side.next !== null && at < side.next) return 'duplicate';
+    if (!Number.isFinite(outcome.timeMs)) throw badArgument('outcome.timeMs', 'must be finite', outcome.timeMs);
+    const partner = side.pending.partnerOf(outcome.id, outcome.timeMs);
+    if (partner !== undefined) {
+      const fits = signedMargin(partner.score, outcome.label);
+      if (!fits.ok) {
+        this.rejected.set('bad_label', (this.rejected.get('bad_label') ?? 0) + 1);
+        side.next = at + 1n;
+        return 'rejected';
+      }
+    }
+    side.decoded += 1;
+    const matched = side.pending.addOutcome(outcome.id, outcome.timeMs, outcome.label);
+    side.next = at + 1n;
+    if (matched === undefined) return 'held';
+    this.labelLater(matched, outcome.label, false);
+    return 'matched';
+  }
+
+  /** An outcome message turned away at `offset` of the outcome partition; false if a duplicate. */
+  rejectOutcome(reason: RejectionReason, offset: string): boolean {
+    if (!isRejectionReason(reason)) throw badArgument('reason', 'is not a rejection reason', reason);
+    const side = this.requireOutcomes();
+    const at = checkOffset(offset);
+    if (side.next !== null && at < side.next) return false;
+    this.rejected.set(reason, (this.rejected.get(reason) ?? 0) + 1);
+    side.next = at + 1n;
+    return true;
+  }
+
+  private requireOutcomes(): OutcomeSide {
+    if (this.outcomeSide === undefined) throw badArgument('outcomes', `partition ${this.topic}[${this.partition}] has no outcome topic`);
+    return this.outcomeSide;
   }
 
   /** A message turned away at `offset`: counted by reason, and the offset moves on past it. False if a duplicate. */
@@ -255,12 +405,32 @@ export class PartitionState {
   counts(): PartitionCounts {
     const rejected: Partial<Record<RejectionReason, number>> = {};
     for (const [reason, n] of [...this.rejected].sort((a, b) => (a[0] < b[0] ? -1 : 1))) rejected[reason] = n;
-    return { events: this.events, unwatched: this.unwatched, late: this.late, future: this.future, rejected, folded: this.router.folded() };
+    const side = this.outcomeSide;
+    return {
+      events: this.events,
+      unwatched: this.unwatched,
+      late: this.late,
+      future: this.future,
+      rejected,
+      folded: this.router.folded(),
+      labelledInline: this.labelledInline,
+      outcomes: side?.decoded ?? 0,
+      join: side === undefined ? emptyJoinCounts() : { ...side.pending.counts },
+      waiting: side === undefined ? { predictions: 0, outcomes: 0 } : side.pending.waiting(),
+    };
   }
 
   /** Every series in the order it was made. */
   series(): PartitionSeries[] {
-    return this.router.series().map(({ id, series: s }) => ({ ...id, events: s.events, labelled: s.labelled, wrong: s.wrong, windows: s.windows }));
+    return this.router.series().map(({ id, series: s }) => ({
+      ...id,
+      events: s.events,
+      labelled: s.labelled,
+      wrong: s.wrong,
+      probabilityScored: s.probabilityScored,
+      windows: s.windows,
+      labels: s.labels,
+    }));
   }
 
   /** Versioned plain JSON; the checkpoint of this partition, offset included. */
@@ -272,7 +442,15 @@ export class PartitionState {
       partition: this.partition,
       nextOffset: this.nextOffset,
       watermarkMs: this.watermark,
-      counts: { events: c.events, unwatched: c.unwatched, late: c.late, future: c.future, rejected: { ...c.rejected }, folded: structuredClone(c.folded) },
+      counts: {
+        events: c.events,
+        unwatched: c.unwatched,
+        late: c.late,
+        future: c.future,
+        rejected: { ...c.rejected },
+        folded: structuredClone(c.folded),
+        labelledInline: c.labelledInline,
+      },
       series: this.router.series().map(({ id, series: s }) => ({
         model: id.model,
         version: id.version,
@@ -280,8 +458,21 @@ export class PartitionState {
         events: s.events,
         labelled: s.labelled,
         wrong: s.wrong,
+        probabilityScored: s.probabilityScored,
         windows: s.windows.toState(),
+        ...(s.labels === undefined ? {} : { labels: s.labels.toState() }),
       })),
+      ...(this.outcomeSide === undefined
+        ? {}
+        : {
+            outcomes: {
+              topic: this.outcomeSide.topic,
+              nextOffset: this.outcomeNextOffset,
+              decoded: this.outcomeSide.decoded,
+              // A deep copy: entries share score and segment objects with the live store.
+              pending: structuredClone(this.outcomeSide.pending.toState()),
+            },
+          }),
     };
   }
 
@@ -303,7 +494,18 @@ export class PartitionState {
     state.unwatched = s.counts.unwatched;
     state.late = s.counts.late;
     state.future = s.counts.future;
+    state.labelledInline = s.counts.labelledInline ?? 0;
     for (const [reason, n] of Object.entries(s.counts.rejected)) state.rejected.set(reason as RejectionReason, n);
+    if (s.outcomes !== undefined && options.outcomes !== undefined) {
+      // Without an outcome topic in today's options the saved join is dropped: nothing would feed it.
+      if (s.outcomes.topic !== options.outcomes.topic) {
+        throw badState('state.outcomes.topic', `is ${JSON.stringify(s.outcomes.topic)}, expected ${JSON.stringify(options.outcomes.topic)}; restore with the outcome topic it was saved with, or remove the checkpoint`);
+      }
+      const side = state.outcomeSide as OutcomeSide;
+      side.next = s.outcomes.nextOffset === null ? null : BigInt(s.outcomes.nextOffset);
+      side.decoded = s.outcomes.decoded;
+      side.pending = PendingLabels.fromState(structuredClone(s.outcomes.pending), { ttlMs: options.outcomes.ttlMs, maxEntries: options.outcomes.maxPending }, 'state.outcomes.pending');
+    }
     for (const [model, keys] of Object.entries(s.counts.folded)) {
       for (const [key, n] of Object.entries(keys)) state.router.restoreFolded(model, key, n);
     }
@@ -330,6 +532,8 @@ export class PartitionState {
       series.events = entry.events;
       series.labelled = entry.labelled;
       series.wrong = entry.wrong;
+      series.probabilityScored = entry.probabilityScored ?? 0;
+      if (entry.labels !== undefined) series.labels = LabelWindows.fromState(entry.labels, windows.config, `${path}.labels`);
       try {
         state.router.restore({ model: entry.model, version: entry.version, segment: entry.segment }, series);
       } catch (error) {
@@ -350,6 +554,8 @@ function issueField(path: readonly PropertyKey[], root: string): string {
 export interface SeriesView extends SeriesId, SeriesCounts {
   /** A fresh merged copy: the partitions' windows are not changed, and later changes to them do not show. */
   readonly windows: MarginWindows;
+  /** The partitions' label windows merged (a fresh copy); undefined when no partition has a label yet. */
+  readonly labels: LabelWindows | undefined;
   /**
    * The oldest of the partitions' own watermarks for this series (each partition judges lateness
    * against its own): buckets ending before this minus the lateness can gain no more events from any
@@ -372,7 +578,8 @@ export interface MergedView {
  * (MarginWindows.merge) and every count added, so counts equal one stream's exactly. Off the hot path.
  */
 export function mergeView(states: readonly PartitionState[]): MergedView {
-  const byId = new Map<string, { model: string; version: string; segment: string; events: number; labelled: number; wrong: number; windows: MarginWindows; settledWatermarkMs: number | null }>();
+  type Merged = { -readonly [K in keyof SeriesView]: SeriesView[K] };
+  const byId = new Map<string, Merged>();
   let events = 0;
   let unwatched = 0;
   let late = 0;
@@ -380,8 +587,17 @@ export function mergeView(states: readonly PartitionState[]): MergedView {
   let watermarkMs: number | null = null;
   const rejected: Partial<Record<RejectionReason, number>> = {};
   const folded: Record<string, Record<string, number>> = {};
+  let labelledInline = 0;
+  let outcomes = 0;
+  const join = emptyJoinCounts();
+  const waiting = { predictions: 0, outcomes: 0 };
   for (const state of states) {
     const c = state.counts();
+    labelledInline += c.labelledInline;
+    outcomes += c.outcomes;
+    for (const k of Object.keys(join) as (keyof JoinCounts)[]) join[k] += c.join[k];
+    waiting.predictions += c.waiting.predictions;
+    waiting.outcomes += c.waiting.outcomes;
     events += c.events;
     unwatched += c.unwatched;
     late += c.late;
@@ -397,7 +613,7 @@ export function mergeView(states: readonly PartitionState[]): MergedView {
       const key = `${s.model}\u0000${s.version}\u0000${s.segment}`;
       let view = byId.get(key);
       if (view === undefined) {
-        view = { model: s.model, version: s.version, segment: s.segment, events: 0, labelled: 0, wrong: 0, windows: new MarginWindows(s.windows.config), settledWatermarkMs: null };
+        view = { model: s.model, version: s.version, segment: s.segment, events: 0, labelled: 0, wrong: 0, probabilityScored: 0, windows: new MarginWindows(s.windows.config), labels: undefined, settledWatermarkMs: null };
         byId.set(key, view);
       }
       const w = s.windows.watermarkMs;
@@ -405,11 +621,18 @@ export function mergeView(states: readonly PartitionState[]): MergedView {
       view.events += s.events;
       view.labelled += s.labelled;
       view.wrong += s.wrong;
+      view.probabilityScored += s.probabilityScored;
       view.windows.merge(s.windows);
+      if (s.labels !== undefined) (view.labels ??= new LabelWindows(s.windows.config)).merge(s.labels);
     }
   }
   const series = [...byId.values()].sort(compareIds);
-  return { partitions: states.length, counts: { events, unwatched, late, future, rejected, folded }, watermarkMs, series };
+  return {
+    partitions: states.length,
+    counts: { events, unwatched, late, future, rejected, folded, labelledInline, outcomes, join, waiting },
+    watermarkMs,
+    series,
+  };
 }
 
 function compareIds(a: SeriesId, b: SeriesId): number {

@@ -75,6 +75,7 @@ export function splitSegment(segment: string): { readonly key: string; readonly 
 
 interface VersionRoutes<T> {
   readonly all: T;
+  readonly allId: SeriesId;
   /** Per configured key (by index in the model's segmentKeys): value → series; `other` sits here too once made. */
   readonly byKey: Map<string, T>[];
 }
@@ -136,6 +137,11 @@ export class SeriesRouter<T, S extends RoutingConfig = RoutingConfig> {
     return n;
   }
 
+  /** The id of a version's `all` series, once made: its strings can be shared by whatever refers to the series. */
+  idOfAll(model: string, version: string): SeriesId | undefined {
+    return this.models.get(model)?.versions.get(version)?.allId;
+  }
+
   /** The settings of a model, or undefined when it is not watched. */
   settings(model: string): S | undefined {
     return this.models.get(model)?.settings ?? this.settingsOf(model);
@@ -150,7 +156,7 @@ export class SeriesRouter<T, S extends RoutingConfig = RoutingConfig> {
     if (model === undefined) return false;
     if (id.segment === ALL_SEGMENT) {
       if (model.versions.has(id.version)) throw badArgument('series', `holds ${describeSeries(id)} twice`);
-      model.versions.set(id.version, { all: series, byKey: model.settings.segmentKeys.map(() => new Map<string, T>()) });
+      model.versions.set(id.version, { all: series, allId: id, byKey: model.settings.segmentKeys.map(() => new Map<string, T>()) });
       this.remember(model, id, series);
       return true;
     }
@@ -210,7 +216,7 @@ export class SeriesRouter<T, S extends RoutingConfig = RoutingConfig> {
 
   private addVersion(model: ModelRoutes<T, S>, modelName: string, version: string): VersionRoutes<T> {
     const id: SeriesId = { model: modelName, version, segment: ALL_SEGMENT };
-    const routes: VersionRoutes<T> = { all: this.create(id, model.settings), byKey: model.settings.segmentKeys.map(() => new Map<string, T>()) };
+    const routes: VersionRoutes<T> = { all: this.create(id, model.settings), allId: id, byKey: model.settings.segmentKeys.map(() => new Map<string, T>()) };
     model.versions.set(version, routes);
     this.remember(model, id, routes.all);
     return routes;

@@ -14,8 +14,12 @@
  *   state that was saved. States are snapshotted only between batches, and a partition whose
  *   dead-letter copies are not yet on the dead-letter topic is not checkpointed: a crash then replays
  *   those messages and copies them again (at least once), never loses a copy.
+ *
+ * Outcome topics (delayed labels): partition p of kafka.outcomeTopics[i] is read into the state of
+ * partition p of kafka.topics[i], whose checkpoint then holds both next offsets, and the group assigns
+ * partition p of every topic to one member (co-partition.ts). What happens when it does not: outcome-pairs.ts.
  */
-import { Kafka } from 'kafkajs';
+import { Kafka, PartitionAssigners } from 'kafkajs';
 import type { Admin, Consumer, ConsumerGroupJoinEvent, EachBatchPayload, KafkaConfig as KafkajsConfig, Producer } from 'kafkajs';
 import type { Logger } from 'pino';
 import type { ThresholdFor } from '../alerts/index.js';
@@ -26,7 +30,9 @@ import { HeadroomError, isHeadroomError } from '../errors.js';
 import type { PartitionInfo, Readiness, WatchedSeriesSource } from '../serve/index.js';
 import { PartitionState } from '../state/index.js';
 import type { CheckpointStore, PartitionStateJson } from '../state/index.js';
+import { coPartitionedAssigner } from './co-partition.js';
 import { kafkaLogCreator } from './kafka-log.js';
+import { applyOutcomeMessage, planPairs } from './outcome-pairs.js';
 import type { TransitionListener } from './alert-runner.js';
 import { DeadLetters } from './dead-letters.js';
 import { ingestScored } from './ingest.js';
@@ -75,6 +81,14 @@ const EMPTY = new Uint8Array(0);
 /** kafkajs sends a heartbeat only when its interval has passed, so asking this often costs little. */
 const HEARTBEAT_EVERY = 500;
 
+interface Snapshot {
+  readonly key: string;
+  readonly state: PartitionState;
+  readonly json: PartitionStateJson;
+  readonly next: string | null;
+  readonly outcomeNext: string | null;
+}
+
 function partitionKey(topic: string, partition: number): string {
   return `${topic}\u0000${partition}`;
 }
@@ -89,7 +103,23 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
   const group = config.kafka.groupId;
   const log = deps.logger.child({ component: 'stream' });
   const topics = new Set(config.kafka.topics);
-  const stateOptions = (topic: string, partition: number) => ({ topic, partition, models: config.models });
+  /** Scored topic → its outcome topic, and back (kafka.outcomeTopics[i] pairs with kafka.topics[i]). */
+  const outcomeOf = new Map(config.kafka.outcomeTopics.map((t, i) => [config.kafka.topics[i] as string, t]));
+  const scoredOf = new Map(config.kafka.outcomeTopics.map((t, i) => [t, config.kafka.topics[i] as string]));
+  const allTopics = [...topics, ...scoredOf.keys()];
+  const stateOptions = (topic: string, partition: number) => {
+    const outcomeTopic = outcomeOf.get(topic);
+    return {
+      topic,
+      partition,
+      models: config.models,
+      ...(outcomeTopic === undefined ? {} : { outcomes: { topic: outcomeTopic, ttlMs: config.labels.ttlMs, maxPending: config.labels.maxPending } }),
+    };
+  };
+  /** Outcome partition key → the key of the state that reads it; only pairs owned here. */
+  const outcomeReaders = new Map<string, string>();
+  let unpairedNotes: string[] = [];
+  let pausedOutcomes: { topic: string; partitions: number[] }[] = [];
 
   const references = createReferenceFiles({ models: config.models, nowMs, log });
   /** Last saved (or loaded) state of each partition of the group: what an assignment restores from. */
@@ -129,17 +159,23 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
     if (restoreFailure !== undefined) reasons.push(restoreFailure.message);
     if (brokerUnreachable !== undefined) reasons.push(`broker unreachable: ${brokerUnreachable}`);
     if (!joined) reasons.push(`not yet a member of consumer group ${group}`);
+    reasons.push(...unpairedNotes);
     return { ready: reasons.length === 0, reasons };
   };
 
   const partitions = (): PartitionInfo[] =>
     [...owned.values()]
-      .map((state) => {
+      .flatMap((state) => {
         const key = partitionKey(state.topic, state.partition);
-        const high = highs.get(key);
-        const position = state.nextOffset ?? lows.get(key);
-        const lag = high === undefined || position === undefined ? null : Math.max(0, Number(BigInt(high) - BigInt(position)));
-        return { topic: state.topic, partition: state.partition, lagMessages: lag, lastCheckpointMs: lastCheckpointMs.get(key) ?? null };
+        const info = (topic: string, next: string | null): PartitionInfo => {
+          const high = highs.get(partitionKey(topic, state.partition));
+          const position = next ?? lows.get(partitionKey(topic, state.partition));
+          const lag = high === undefined || position === undefined ? null : Math.max(0, Number(BigInt(high) - BigInt(position)));
+          return { topic, partition: state.partition, lagMessages: lag, lastCheckpointMs: lastCheckpointMs.get(key) ?? null };
+        };
+        const outcomeTopic = state.outcomeTopic;
+        const read = outcomeTopic !== undefined && outcomeReaders.has(partitionKey(outcomeTopic, state.partition));
+        return read ? [info(state.topic, state.nextOffset), info(outcomeTopic, state.outcomeNextOffset)] : [info(state.topic, state.nextOffset)];
       })
       .sort((a, b) => (a.topic < b.topic ? -1 : a.topic > b.topic ? 1 : a.partition - b.partition));
 
@@ -171,7 +207,7 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
 
   async function refreshOffsets(which: 'low' | 'high'): Promise<void> {
     if (admin === undefined) return;
-    for (const topic of topics) {
+    for (const topic of allTopics) {
       for (const p of await admin.fetchTopicOffsets(topic)) {
         const key = partitionKey(topic, p.partition);
         if (which === 'low') lows.set(key, p.low);
@@ -187,6 +223,7 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
     const assignment = event.payload.memberAssignment;
     const assigned = new Set<string>();
     for (const [topic, list] of Object.entries(assignment)) {
+      if (scoredOf.has(topic)) continue; // outcome partitions follow their scored partition, below
       for (const partition of list) {
         const key = partitionKey(topic, partition);
         assigned.add(key);
@@ -217,8 +254,33 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
         log.info({ topic: state?.topic, partition: state?.partition }, 'partition revoked; progress after its last checkpoint is read again by its next owner');
       }
     }
+    if (scoredOf.size > 0) pairOutcomes(c, assignment);
     joined = true;
     everJoined = true;
+  }
+
+  /** Seeks each outcome partition read here to its state's outcome offset; pauses the ones without their scored partition. */
+  function pairOutcomes(c: Consumer, assignment: Record<string, number[]>): void {
+    if (pausedOutcomes.length > 0) c.resume(pausedOutcomes);
+    const plan = planPairs(assignment, scoredOf, outcomeOf, partitionKey);
+    outcomeReaders.clear();
+    for (const { topic, partition, stateKey } of plan.read) {
+      const state = owned.get(stateKey);
+      if (state === undefined) continue; // not restored: see restoreFailure
+      outcomeReaders.set(partitionKey(topic, partition), stateKey);
+      const offset = state.outcomeNextOffset ?? lows.get(partitionKey(topic, partition));
+      if (offset !== undefined) c.seek({ topic, partition, offset });
+      log.info({ topic, partition, offset: offset ?? 'earliest', state: `${state.topic}[${state.partition}]` }, 'outcome partition assigned');
+    }
+    const byTopic = new Map<string, number[]>();
+    for (const { topic, partition } of plan.unpaired) byTopic.set(topic, [...(byTopic.get(topic) ?? []), partition]);
+    pausedOutcomes = [...byTopic].map(([topic, partitions]) => ({ topic, partitions }));
+    if (pausedOutcomes.length > 0) c.pause(pausedOutcomes);
+    unpairedNotes = [
+      ...plan.unpaired.map((u) => `outcome partition ${u.topic}[${u.partition}] is assigned without scored partition ${scoredOf.get(u.topic)}[${u.partition}]; paused`),
+      ...plan.alone.map((a) => `scored partition ${a.topic}[${a.partition}] is owned without outcome partition ${outcomeOf.get(a.topic)}[${a.partition}]; its predictions cannot be labelled here`),
+    ];
+    for (const note of unpairedNotes) log.warn({ group }, note);
   }
 
   async function eachBatch(payload: EachBatchPayload): Promise<void> {
@@ -226,8 +288,15 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
     batchInFlight = new Promise<void>((resolve) => (done = resolve));
     inBatch = true;
     try {
-      await consumeBatch(payload);
-      await deadLetters?.flush(partitionKey(payload.batch.topic, payload.batch.partition));
+      const { topic, partition } = payload.batch;
+      if (scoredOf.has(topic)) {
+        const stateKey = outcomeReaders.get(partitionKey(topic, partition));
+        await consumeOutcomeBatch(payload, stateKey);
+        if (stateKey !== undefined) await deadLetters?.flush(stateKey);
+      } else {
+        await consumeBatch(payload);
+        await deadLetters?.flush(partitionKey(topic, partition));
+      }
     } finally {
       inBatch = false;
       if (checkpointDue && !stopping) {
@@ -282,33 +351,65 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
     await heartbeat();
   }
 
+  /** Outcome messages into the state of their pair: the same offset and heartbeat rules as consumeBatch, in the pair's state. */
+  async function consumeOutcomeBatch({ batch, resolveOffset, heartbeat, isRunning, isStale }: EachBatchPayload, stateKey: string | undefined): Promise<void> {
+    const state = stateKey === undefined ? undefined : owned.get(stateKey);
+    if (state === undefined || stateKey === undefined) return; // paused, or no longer ours
+    const hooks = {
+      limits: config.decode,
+      rejected: (message: EachBatchPayload['batch']['messages'][number], reason: string, field: string) =>
+        deadLetters?.add(stateKey, batch.topic, batch.partition, message, reason, field),
+    };
+    let n = 0;
+    let unresolved: string | undefined;
+    let live = !stopping && isRunning() && !isStale();
+    for (const message of batch.messages) {
+      if (!live) break;
+      applyOutcomeMessage(state, message, hooks);
+      unresolved = message.offset;
+      n += 1;
+      if (n % HEARTBEAT_EVERY === 0) {
+        resolveOffset(message.offset);
+        unresolved = undefined;
+        await heartbeat();
+        live = !stopping && isRunning() && !isStale();
+      }
+    }
+    if (unresolved !== undefined) resolveOffset(unresolved);
+    await heartbeat();
+  }
+
   /**
    * Snapshots every owned state that moved (synchronously, so between batches: see eachBatch and the
    * timer), then saves them and commits the saved offsets. Saves run one checkpoint at a time.
    */
   function checkpoint(): Promise<void> {
-    const snapshots: { key: string; state: PartitionState; json: PartitionStateJson; next: string }[] = [];
+    const snapshots: Snapshot[] = [];
     for (const state of owned.values()) {
       const key = partitionKey(state.topic, state.partition);
       const next = state.nextOffset;
-      if (next === null || (deadLetters?.pending(key) ?? 0) > 0) continue;
-      if (queuedOffset.get(key) === next) {
-        if (saved.get(key)?.nextOffset === next) lastCheckpointMs.set(key, nowMs()); // nothing new: the checkpoint on disk is current
+      const outcomeNext = state.outcomeNextOffset;
+      if ((next === null && outcomeNext === null) || (deadLetters?.pending(key) ?? 0) > 0) continue;
+      // Both offsets: a state that only read outcomes has moved too.
+      const mark = `${next ?? ''}/${outcomeNext ?? ''}`;
+      if (queuedOffset.get(key) === mark) {
+        const s = saved.get(key);
+        if (s?.nextOffset === next && (s.outcomes?.nextOffset ?? null) === outcomeNext) lastCheckpointMs.set(key, nowMs()); // nothing new: the checkpoint on disk is current
         continue;
       }
-      queuedOffset.set(key, next);
-      snapshots.push({ key, state, json: state.toState() as PartitionStateJson, next });
+      queuedOffset.set(key, mark);
+      snapshots.push({ key, state, json: state.toState() as PartitionStateJson, next, outcomeNext });
     }
     const run = (): Promise<void> => persist(snapshots);
     checkpointChain = checkpointChain.then(run, run);
     return checkpointChain;
   }
 
-  async function persist(snapshots: readonly { key: string; state: PartitionState; json: PartitionStateJson; next: string }[]): Promise<void> {
+  async function persist(snapshots: readonly Snapshot[]): Promise<void> {
     const commits: { topic: string; partition: number; offset: string }[] = [];
     const failures: unknown[] = [];
     await Promise.all(
-      snapshots.map(async ({ key, state, json, next }) => {
+      snapshots.map(async ({ key, state, json, next, outcomeNext }) => {
         try {
           await store.save(group, state.topic, state.partition, json);
         } catch (error) {
@@ -319,7 +420,8 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
         }
         saved.set(key, json);
         lastCheckpointMs.set(key, nowMs());
-        commits.push({ topic: state.topic, partition: state.partition, offset: next });
+        if (next !== null) commits.push({ topic: state.topic, partition: state.partition, offset: next });
+        if (outcomeNext !== null && state.outcomeTopic !== undefined) commits.push({ topic: state.outcomeTopic, partition: state.partition, offset: outcomeNext });
       }),
     );
     if (commits.length > 0 && consumer !== undefined) {
@@ -366,7 +468,13 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
         producer = p;
         await p.connect().catch((e: unknown) => Promise.reject(startError(`connecting the dead-letter producer for ${deadLetterTopic}`, e)));
       }
-      const c = kafka.consumer({ groupId: group, sessionTimeout: config.kafka.sessionTimeoutMs, heartbeatInterval: config.kafka.heartbeatIntervalMs });
+      const c = kafka.consumer({
+        groupId: group,
+        sessionTimeout: config.kafka.sessionTimeoutMs,
+        heartbeatInterval: config.kafka.heartbeatIntervalMs,
+        // Only with outcome topics: the default deals partition p of two topics to different members (co-partition.ts).
+        ...(scoredOf.size > 0 ? { partitionAssigners: [coPartitionedAssigner, PartitionAssigners.roundRobin] } : {}),
+      });
       consumer = c;
       c.on(c.events.GROUP_JOIN, onGroupJoin);
       c.on(c.events.CRASH, (event) => {
@@ -378,7 +486,7 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
         }
       });
       await c.connect().catch((e: unknown) => Promise.reject(startError(`connecting the consumer of group ${group}`, e)));
-      await c.subscribe({ topics: [...topics], fromBeginning: true });
+      await c.subscribe({ topics: allTopics, fromBeginning: true });
       await c.run({ autoCommit: false, eachBatchAutoResolve: false, eachBatch });
       every(
         Math.max(config.checkpoint.intervalMs, 100),
@@ -428,7 +536,7 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
       references.close();
       const c = consumer;
       await step('stop fetching', () => {
-        if (c !== undefined && joined) c.pause([...topics].map((topic) => ({ topic })));
+        if (c !== undefined && joined) c.pause(allTopics.map((topic) => ({ topic })));
         return batchInFlight;
       });
       await step('send dead-letter copies', () => deadLetters?.flushAll());

@@ -13,6 +13,7 @@ const BENCHES: ReadonlyArray<{ file: string; title: string; args?: string[] }> =
   { file: 'sketch-accuracy.ts', title: 'sketch accuracy: quantile rank error and KS from sketches vs exact, beside the npm tdigest package' },
   { file: 'sketch-memory.ts', title: 'bytes held per series for 24 h at 1,000 events/s' },
   { file: 'checkpoint-records.ts', title: 'a partition checkpoint as Kafka records: JSON vs gzip, chunks per save' },
+  { file: 'label-memory.ts', title: 'delayed labels: heap bytes per waiting prediction, and checkpoint bytes' },
   { file: 'alert-simulation.ts', title: 'alerts: CUSUM (event by event and bucket feed) vs fixed-window threshold, false alarms and delay' },
   { file: 'watch-e2e.ts', title: 'headroom watch end to end on a real broker vs a bare kafkajs eachBatch + JSON.parse consumer' },
   { file: 'replay.ts', title: 'headroom replay of a 1e6-event .gz JSONL file vs a raw gunzip + line split of the same file' },

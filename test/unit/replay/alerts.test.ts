@@ -23,6 +23,7 @@ function entry(hour: number, low: number, count = 1_000, psi = 0.02): ReportEntr
     psi,
     wasserstein: 0.01,
     quantiles: {},
+    labels: null,
     alerts: [],
   };
 }

@@ -26,6 +26,7 @@ function entry(hour: number, segment: string, ks: number | null, count = 4): Rep
     psi: null,
     wasserstein: null,
     quantiles: {},
+    labels: null,
     alerts: [],
   };
 }

@@ -27,6 +27,7 @@ function entry(model: string, segment: string): ReportEntry {
     psi: null,
     wasserstein: null,
     quantiles: { '0.5': 0.4 },
+    labels: null,
     alerts: [],
   };
 }

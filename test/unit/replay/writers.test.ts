@@ -22,8 +22,9 @@ function entry(hour: number, segment: string, count: number, over: Partial<Repor
     wasserstein: 0.02,
     quantiles: { '0.5': 0.6, '0.9': null },
     alerts: [],
+    labels: null,
     ...over,
-  };
+  } as ReportEntry;
 }
 
 function report(windows: ReportEntry[], window = '1h'): ReplayReport {

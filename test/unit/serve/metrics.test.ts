@@ -10,6 +10,9 @@ import { isHeadroomError } from '../../../src/errors.js';
 import { EmpiricalDistribution } from '../../../src/sketch/empirical.js';
 import { createMetrics, decimalLabel, METRIC_QUANTILE_LEVELS } from '../../../src/serve/index.js';
 import type { WatchedSeriesSource } from '../../../src/serve/index.js';
+import { validateScoredEvent } from '../../../src/events/index.js';
+import { LabelWindows, emptyJoinCounts } from '../../../src/labels/index.js';
+import { buildReference, formatReference, parseReferenceText } from '../../../src/reference/index.js';
 import { find, parseExposition, value } from './exposition.js';
 import { checkMetrics, havePromtool, mustRunPromtool, promtool } from './promtool.js';
 import { MINUTE, MODEL, ORIGIN, REFERENCE_MARGINS, T0, THRESHOLDS, VERSION, VIEWS, lowShare, world } from './fixture.js';
@@ -207,10 +210,25 @@ describe.skipIf(!havePromtool && !mustRunPromtool)('promtool check metrics', () 
     const first = w.source.snapshots[0];
     if (first === undefined) throw new Error('fixture has no series');
     w.source.snapshots.push({ ...first, model: 'odd "name" \\ with\nnewline' });
-    const { text, samples, types } = await scrape(w.source, w.nowMs);
+    // A series with labels (live and in its reference) and a join, so the label families have samples too.
+    const events = Array.from({ length: 200 }, (_, i) => {
+      const r = validateScoredEvent({ id: `l-${i}`, model: 'labelled', version: '1', time: T0 + i, score: { kind: 'probability', p: (i % 10) / 10 + 0.05 }, label: i % 3 === 0 ? 0 : 1 });
+      if (!r.ok) throw new Error(r.reason);
+      return r.event;
+    });
+    const ref = parseReferenceText(formatReference(buildReference(events, { createdAt: '2026-11-19T00:00:00.000Z', source: 'labels', thresholds: THRESHOLDS })), 'ref.json');
+    const labels = new LabelWindows(first.windows.config);
+    for (const e of events) {
+      const p = (e.score as { p: number }).p;
+      const y = e.label === 1 ? 1 : -1;
+      labels.add(y * (2 * p - 1), p, y === 1, T0 + 60 * MINUTE, T0 + 60 * MINUTE);
+    }
+    w.source.snapshots.push({ ...first, model: 'labelled', version: '1', reference: ref.segmentFor('all'), labels, labelled: 200, probabilistic: true });
+    const withJoin = { ...w.source, series: () => w.source.series(), labelJoin: () => ({ outcomes: 3, labelledInline: 1, join: { ...emptyJoinCounts(), matched: 2 }, waiting: { predictions: 4, outcomes: 1 } }) };
+    const { text, samples, types } = await scrape(withJoin, w.nowMs);
     // Every family must be there with samples, or a clean bill would prove little.
     for (const name of types.keys()) expect(find(samples, name).length, name).toBeGreaterThan(0);
-    expect(types.size).toBe(16);
+    expect(types.size).toBe(28); // 16 margin families and 12 of labels
     const result = checkMetrics(text);
     expect(result.stdout + result.stderr).toBe('');
     expect(result.status).toBe(0);

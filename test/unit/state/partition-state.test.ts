@@ -66,7 +66,11 @@ describe('PartitionState', () => {
     expect(s.watermarkMs).toBe(T0 + 2000);
     const bySegment = Object.fromEntries(s.series().map((x) => [x.segment, [x.events, x.labelled, x.wrong]]));
     expect(bySegment).toEqual({ all: [3, 2, 1], 'line=1': [2, 2, 1], 'shift=day': [1, 0, 0] });
-    expect(s.counts()).toEqual({ events: 3, unwatched: 0, late: 0, future: 0, rejected: {}, folded: {} });
+    const none = { matched: 0, predictionExpired: 0, predictionEvicted: 0, predictionDuplicate: 0, outcomeUnmatched: 0, outcomeEvicted: 0, outcomeDuplicate: 0, outcomeBadLabel: 0 };
+    // No outcome topic: the two labelled events count at once, and nothing waits.
+    expect(s.counts()).toEqual({ events: 3, unwatched: 0, late: 0, future: 0, rejected: {}, folded: {}, labelledInline: 2, outcomes: 0, join: none, waiting: { predictions: 0, outcomes: 0 } });
+    const all = s.series().find((x) => x.segment === 'all');
+    expect(all?.labels?.view(3_600_000, s.watermarkMs).summary.wrong).toBe(1);
   });
 
   it('a rejection advances the offset and is counted by reason; an offset seen before is not counted again', () => {
@@ -81,7 +85,7 @@ describe('PartitionState', () => {
     // Redelivered offsets change nothing.
     expect(s.reject('not_json', '3')).toBe(false);
     expect(s.apply(e, marginsOf(e), '1', NOW)).toBe('duplicate');
-    expect(s.counts()).toEqual({ events: 1, unwatched: 0, late: 0, future: 0, rejected: { bad_time: 1, not_json: 2 }, folded: {} });
+    expect(s.counts()).toMatchObject({ events: 1, unwatched: 0, late: 0, future: 0, rejected: { bad_time: 1, not_json: 2 }, folded: {}, labelledInline: 0, outcomes: 0 });
     expect(s.nextOffset).toBe('4');
     expect(failure(() => s.reject('not_json', '-1'))?.code).toBe('HR_ERR_STATE_ARGUMENT');
     expect(failure(() => s.reject('no_such' as 'not_json', '9'))?.code).toBe('HR_ERR_STATE_ARGUMENT');
