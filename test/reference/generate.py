@@ -20,9 +20,24 @@ def generators():
     return sorted(f for f in os.listdir(HERE) if f.startswith("gen_") and f.endswith(".py"))
 
 
+def pinned_simd_env():
+    """NumPy picks SIMD kernels by CPU at run time, and with AVX-512 its sums round differently in the last
+    bits; AdaBoost's trees then break near-ties another way and pick other splits (seen: a few samples'
+    decision values move by ~0.01). So the generators run with NumPy's AVX-512 kernels switched off
+    (NPY_DISABLE_CPU_FEATURES): the same fixtures on a machine with AVX-512 as on one with AVX2 only."""
+    from numpy._core import _multiarray_umath as m
+
+    found = [f for f in m.__cpu_dispatch__ if (f == "X86_V4" or f.startswith("AVX512")) and m.__cpu_features__.get(f)]
+    env = dict(os.environ)
+    if found:
+        env["NPY_DISABLE_CPU_FEATURES"] = " ".join(found)
+    return env
+
+
 def run_all(out_dir):
+    env = pinned_simd_env()
     for g in generators():
-        subprocess.run([sys.executable, os.path.join(HERE, g), out_dir], check=True)
+        subprocess.run([sys.executable, os.path.join(HERE, g), out_dir], check=True, env=env)
 
 
 def close(a, b, path, problems):
