@@ -171,8 +171,12 @@ describe('KafkaCheckpointStore on a real broker', () => {
 
   it('keys are compaction-safe: one key per partition at every save, new chunk keys per save, old chunks tombstoned', async () => {
     const topic = uniqueName('state');
-    // 500 bytes: the 300-event states (about 700 bytes gzipped) take 2 chunks, the 1-event one (about 440) is inline.
-    const a = storeOn(topic, { chunkBytes: 500 });
+    // 1,000 bytes: the 300-event states take 2 chunks, the 1-event one is inline (sizes checked here, gzip level 1 as the store packs).
+    const packed = (n: number): number => gzipSync(Buffer.from(JSON.stringify(sampleState('scores', 1, n))), { level: 1 }).length;
+    expect(packed(1)).toBeLessThan(1_000);
+    expect(Math.min(packed(300), packed(301))).toBeGreaterThan(1_000);
+    expect(Math.max(packed(300), packed(301))).toBeLessThanOrEqual(2_000);
+    const a = storeOn(topic, { chunkBytes: 1_000 });
     const key = stateKey('g', 'scores', 1);
     await a.save('g', 'scores', 1, sampleState('scores', 1, 300)); // save 1: chunked
     await a.save('g', 'scores', 1, sampleState('scores', 1, 301)); // save 2: chunked, deletes save 1's chunks
