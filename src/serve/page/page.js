@@ -367,14 +367,21 @@ function renderWindows(detail) {
   if (state.window !== null) select.value = state.window;
 }
 
+function twoLines(main, sub) {
+  const td = el('td', 'num');
+  td.appendChild(el('span', 'main', main));
+  if (sub) td.appendChild(el('span', 'sub', sub));
+  return td;
+}
+
 function renderDrift(detail) {
   const head = byId('drift-head');
   const body = byId('drift-body');
   clear(head);
   clear(body);
   const cols = ['window', 'events'];
-  detail.thresholds.forEach((t) => cols.push('share < ' + t + ' [95%]', 'reference'));
-  cols.push('KS D', 'KS p', 'PSI', 'Wasserstein-1', 'median', 'reference median');
+  detail.thresholds.forEach((t) => cols.push('share < ' + t + ', live vs reference'));
+  cols.push('KS D (p)', 'PSI', 'Wasserstein-1', 'median, live vs reference');
   const tr = el('tr');
   cols.forEach((c) => tr.appendChild(el('th', '', c)));
   head.appendChild(tr);
@@ -384,17 +391,15 @@ function renderDrift(detail) {
     row.appendChild(el('td', 'num', count(v.count)));
     detail.thresholds.forEach((t) => {
       const l = v.lowMargin.find((x) => x.threshold === t);
-      row.appendChild(el('td', 'num', l && l.live.share !== null ? pct(l.live.share) + ' [' + pct(l.live.lower) + ', ' + pct(l.live.upper) + ']' : '–'));
-      row.appendChild(el('td', 'num', l ? pct(l.referenceShare) : '–'));
+      if (!l || l.live.share === null) row.appendChild(twoLines(l && l.referenceShare !== null ? '– vs ' + pct(l.referenceShare) : '–', 'no events'));
+      else row.appendChild(twoLines(pct(l.live.share) + ' vs ' + pct(l.referenceShare), '95%: ' + pct(l.live.lower) + ' – ' + pct(l.live.upper)));
     });
     const d = v.comparison;
-    row.appendChild(el('td', 'num', d ? fixed(d.ks.statistic, 3) : '–'));
-    row.appendChild(el('td', 'num', d && d.ks.pValue !== null ? Number(d.ks.pValue).toPrecision(2) : '–'));
+    row.appendChild(twoLines(d ? fixed(d.ks.statistic, 3) : '–', d && d.ks.pValue !== null ? 'p ' + Number(d.ks.pValue).toPrecision(2) : ''));
     row.appendChild(el('td', 'num', d ? fixed(d.psi.value, 3) : '–'));
     row.appendChild(el('td', 'num', d ? fixed(d.wasserstein, 3) : '–'));
     const median = v.quantiles.find((q) => q.q === 0.5);
-    row.appendChild(el('td', 'num', median ? fixed(median.live, 3) : '–'));
-    row.appendChild(el('td', 'num', median ? fixed(median.reference, 3) : '–'));
+    row.appendChild(el('td', 'num', median ? fixed(median.live, 3) + ' vs ' + fixed(median.reference, 3) : '–'));
     body.appendChild(row);
   });
 }
