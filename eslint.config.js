@@ -16,6 +16,14 @@ export default tseslint.config(
     },
   },
   {
+    // The live page's script runs in the browser (src/serve/page); uPlot is the global its own script defines.
+    files: ['src/serve/page/**/*.js'],
+    languageOptions: {
+      sourceType: 'module',
+      globals: { window: 'readonly', document: 'readonly', location: 'readonly', fetch: 'readonly', setTimeout: 'readonly', clearTimeout: 'readonly', uPlot: 'readonly' },
+    },
+  },
+  {
     // The pure core never reads the clock, the file system or the network.
     files: [
       'src/events/**',

@@ -36,6 +36,7 @@ export const ERROR_CODES = {
   HR_ERR_API_BAD_PARAMETER: { message: 'bad request parameter', retriable: false, httpStatus: 400, exitCode: 64 },
   HR_ERR_API_INTERNAL: { message: 'the server failed to answer', retriable: true, httpStatus: 500, exitCode: 70 },
   HR_ERR_SERVE_ARGUMENT: { message: 'metrics or API option is invalid', retriable: false, httpStatus: 500, exitCode: 70 },
+  HR_ERR_SERVE_PAGE_MISSING: { message: "the page's files cannot be read", retriable: false, httpStatus: 500, exitCode: 69 },
   HR_ERR_STATE_INVALID: { message: 'partition state is invalid', retriable: false, httpStatus: 500, exitCode: 65 },
   HR_ERR_STATE_ARGUMENT: { message: 'partition state argument is out of range', retriable: false, httpStatus: 400, exitCode: 70 },
   HR_ERR_CHECKPOINT_CORRUPT: { message: 'stored checkpoint is corrupt; it is refused, not reset', retriable: false, httpStatus: 500, exitCode: 65 },

@@ -4,8 +4,10 @@
  */
 import { Router } from 'express';
 import type { Request } from 'express';
+import { formatDuration, parseDuration } from '../config/durations.js';
 import { HeadroomError } from '../errors.js';
 import type { MarginDistribution } from '../sketch/index.js';
+import { seriesHistory } from './history.js';
 import type { SeriesSnapshot, ViewSpec, WatchedSeriesSource } from './model.js';
 import { viewReports, type ViewReport } from './report.js';
 
@@ -139,6 +141,29 @@ export function createApiRouter(options: ApiOptions): Router {
           ? { state: 'none' as const }
           : { state: 'loaded' as const, segment: s.reference.name, count: s.reference.confidence.count, points: cdfPoints(s.reference.confidence, points) },
     });
+  });
+
+  router.get('/series/:model/:version/:segment/history', (req, res) => {
+    const thresholdText = single(req, 'threshold');
+    const bucketText = single(req, 'bucket');
+    const s = findSeries(source, req);
+    const config = s.windows.config;
+    let thresholds = config.thresholds;
+    if (thresholdText !== undefined) {
+      const threshold = thresholdText.trim() === '' ? Number.NaN : Number(thresholdText);
+      if (!config.thresholds.includes(threshold)) throw badParameter('threshold', `must be one of this series' thresholds: ${config.thresholds.join(', ')}`);
+      thresholds = [threshold];
+    }
+    let bucketMs = config.bucketMs;
+    if (bucketText !== undefined) {
+      const parsed = parseDuration(bucketText);
+      if (!parsed.ok) throw badParameter('bucket', parsed.detail);
+      if (parsed.ms % config.bucketMs !== 0 || parsed.ms > config.retentionMs) {
+        throw badParameter('bucket', `must be a whole number of this series' ${formatDuration(config.bucketMs)} buckets, up to ${formatDuration(config.retentionMs)}`);
+      }
+      bucketMs = parsed.ms;
+    }
+    res.json({ model: s.model, version: s.version, segment: s.segment, ...seriesHistory(s.windows, s.reference, thresholds, bucketMs) });
   });
 
   router.get('/labels', (_req, res) => {

@@ -1,5 +1,6 @@
 /**
- * The HTTP side of `headroom watch`: /metrics, liveness and readiness probes, and the read-only JSON API.
+ * The HTTP side of `headroom watch` and `headroom demo`: /metrics, liveness and readiness probes, the
+ * read-only JSON API, and the live page over it at `/` (page.ts).
  * createApp returns the express app without listening (STYLE 10); the caller owns the server and its close.
  */
 import express from 'express';
@@ -10,6 +11,7 @@ import { createApiRouter } from './api.js';
 import { errorHandler, notFound } from './errors-handler.js';
 import type { ViewSpec, WatchedSeriesSource } from './model.js';
 import { checkQuantiles, checkViews } from './options.js';
+import { createPageRouter, loadPageAssets } from './page.js';
 
 export interface AppDependencies {
   /** The registry createMetrics filled; served as it is at /metrics. */
@@ -19,6 +21,8 @@ export interface AppDependencies {
   readonly nowMs: () => number;
   /** Quantile levels the API reports per view; default compare's DEFAULT_QUANTILE_LEVELS. */
   readonly quantiles?: readonly number[];
+  /** Where the page's own files are; default src/serve/page beside the code (dist/serve/page once built). */
+  readonly pageDir?: string;
   /** Told of every failure that is not a HeadroomError (a bug); default: nothing. Pass the component's logger. */
   readonly onError?: (error: unknown) => void;
 }
@@ -33,6 +37,8 @@ export function createApp(deps: AppDependencies): Express {
   app.use((_req, res, next) => {
     res.set('X-Content-Type-Options', 'nosniff');
     res.set('Cache-Control', 'no-store');
+    // JSON opened on its own runs nothing; the page's own answers set the policy they need (page.ts).
+    res.set('Content-Security-Policy', "default-src 'none'; frame-ancestors 'none'");
     next();
   });
 
@@ -47,6 +53,7 @@ export function createApp(deps: AppDependencies): Express {
     const { ready, reasons } = deps.source.readiness();
     res.status(ready ? 200 : 503).json({ ready, reasons });
   });
+  app.use(createPageRouter(loadPageAssets(deps.pageDir)));
   app.use('/api', createApiRouter({ source: deps.source, views, quantiles, nowMs: deps.nowMs }));
 
   app.use(notFound);

@@ -58,6 +58,15 @@ function finiteArgument(name: string, value: number): void {
   if (typeof value !== 'number' || !Number.isFinite(value)) throw badArgument(name, 'must be a finite number', value);
 }
 
+/** One bucket of bucketHistory(). */
+export interface BucketCounts {
+  readonly startMs: number;
+  readonly endMs: number;
+  readonly count: number;
+  /** Exact counts of margins below each of config.thresholds, in its order. */
+  readonly below: readonly number[];
+}
+
 export class MarginWindows {
   readonly config: WindowConfig;
   private readonly summaryOptions: SummaryOptions;
@@ -179,6 +188,24 @@ export class MarginWindows {
       if (endMs > throughMs) break;
       out.push({ startMs, endMs, count: s.count, low: s.countBelow(threshold) });
     }
+    return out;
+  }
+
+  /**
+   * Every bucket held, oldest first, with its exact count and its counts below each of config.thresholds
+   * (in that order): the low-margin share over time. A coarse bucket only holds what was folded from fine
+   * buckets older than the fine span, so its span is cut where the fine span begins and no two spans
+   * overlap (the hour the fine span starts in shows as a shorter coarse bucket, then its fine buckets).
+   */
+  bucketHistory(): BucketCounts[] {
+    const w = this.watermark;
+    if (w === null) return [];
+    const c = this.config;
+    const fineStartMs = this.fineStart(w);
+    const entry = (startMs: number, endMs: number, s: MarginSummary): BucketCounts => ({ startMs, endMs, count: s.count, below: c.thresholds.map((t) => s.countBelow(t)) });
+    const out: BucketCounts[] = [];
+    for (const [start, s] of sortedEntries(this.coarse)) out.push(entry(start, Math.min(start + c.coarseBucketMs, fineStartMs), s));
+    for (const [start, s] of sortedEntries(this.fine)) out.push(entry(start, start + c.bucketMs, s));
     return out;
   }
 

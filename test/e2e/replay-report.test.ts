@@ -15,7 +15,7 @@ import type { ScoredEvent } from '../../src/events/index.js';
 import { buildReference, formatReference } from '../../src/reference/index.js';
 import { parseReplayWindow, runReplay } from '../../src/replay/index.js';
 import type { ReplayReport } from '../../src/replay/index.js';
-import { launchChromium, openPage } from '../harness/browser.js';
+import { keyColoursOnCanvas as pageKeyColours, launchChromium, openPage } from '../harness/browser.js';
 import type { OpenedPage } from '../harness/browser.js';
 import { rng } from '../unit/events/prng.js';
 
@@ -43,34 +43,9 @@ function logLines(seed: number, hours: number, drift: boolean): string[] {
   return out;
 }
 
-/** The little of the DOM the page checks use; typed here so the Node program needs no DOM lib. */
-interface PageDocument {
-  querySelector(selector: string): { width: number; height: number; getContext(kind: '2d'): { getImageData(x: number, y: number, w: number, h: number): { data: ArrayLike<number> } } } | null;
-  querySelectorAll(selector: string): ArrayLike<{ dataset: Record<string, string | undefined> }>;
-}
-
-/** Pixels of the chart's canvas within a small distance of each colour of the chart's key. */
+/** Pixels of a chart's canvas within a small distance of each colour of the chart's key. */
 async function keyColoursOnCanvas(opened: OpenedPage, chartId: string, keyId: string): Promise<Record<string, number>> {
-  return opened.page.evaluate(
-    ([chart, key]) => {
-      const doc = (globalThis as unknown as { document: PageDocument }).document;
-      const canvas = doc.querySelector(`#${chart} canvas`);
-      const colours = Array.from(doc.querySelectorAll(`#${key} .swatch`)).map((s) => s.dataset.colour ?? '');
-      const out: Record<string, number> = {};
-      if (canvas === null) return out;
-      const pixels = canvas.getContext('2d').getImageData(0, 0, canvas.width, canvas.height).data;
-      for (const colour of colours) {
-        const [r, g, b] = [1, 3, 5].map((i) => parseInt(colour.slice(i, i + 2), 16)) as [number, number, number];
-        let n = 0;
-        for (let i = 0; i < pixels.length; i += 4) {
-          if ((pixels[i + 3] as number) > 200 && Math.abs((pixels[i] as number) - r) + Math.abs((pixels[i + 1] as number) - g) + Math.abs((pixels[i + 2] as number) - b) < 40) n += 1;
-        }
-        out[colour] = n;
-      }
-      return out;
-    },
-    [chartId, keyId] as const,
-  );
+  return pageKeyColours(opened.page, chartId, keyId);
 }
 
 describe.skipIf(!inject('chromiumAvailable'))('report.html in headless Chromium', () => {

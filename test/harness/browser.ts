@@ -77,3 +77,36 @@ export async function openPage(browser: Browser, target: string, options: OpenOp
     close: () => context.close(),
   };
 }
+
+/** The little of the DOM keyColoursOnCanvas uses; typed here so the Node program needs no DOM lib. */
+interface PageDocument {
+  querySelector(selector: string): { width: number; height: number; getContext(kind: '2d'): { getImageData(x: number, y: number, w: number, h: number): { data: ArrayLike<number> } } } | null;
+  querySelectorAll(selector: string): ArrayLike<{ dataset: Record<string, string | undefined> }>;
+}
+
+/**
+ * Pixels of the canvas in `#chartId` within a small distance of each colour of the key `#keyId` (the
+ * `data-colour` of its `.swatch`es): a curve in the key that was not drawn counts 0.
+ */
+export async function keyColoursOnCanvas(page: Page, chartId: string, keyId: string): Promise<Record<string, number>> {
+  return page.evaluate(
+    ([chart, key]) => {
+      const doc = (globalThis as unknown as { document: PageDocument }).document;
+      const canvas = doc.querySelector(`#${chart} canvas`);
+      const colours = Array.from(doc.querySelectorAll(`#${key} .swatch`)).map((s) => s.dataset.colour ?? '');
+      const out: Record<string, number> = {};
+      if (canvas === null) return out;
+      const pixels = canvas.getContext('2d').getImageData(0, 0, canvas.width, canvas.height).data;
+      for (const colour of colours) {
+        const [r, g, b] = [1, 3, 5].map((i) => parseInt(colour.slice(i, i + 2), 16)) as [number, number, number];
+        let n = 0;
+        for (let i = 0; i < pixels.length; i += 4) {
+          if ((pixels[i + 3] as number) > 200 && Math.abs((pixels[i] as number) - r) + Math.abs((pixels[i + 1] as number) - g) + Math.abs((pixels[i + 2] as number) - b) < 40) n += 1;
+        }
+        out[colour] = n;
+      }
+      return out;
+    },
+    [chartId, keyId] as const,
+  );
+}

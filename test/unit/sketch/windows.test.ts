@@ -309,3 +309,42 @@ describe('config', () => {
     }
   });
 });
+
+describe('bucket history', () => {
+  it('is empty before any event', () => {
+    expect(new MarginWindows().bucketHistory()).toEqual([]);
+  });
+
+  it('lists every bucket oldest first with exact counts below each θ, spans cut where the fine span begins', () => {
+    // 3 h of one event a minute: minutes 0..59 and part of 60..119 folded into hour buckets, the rest fine.
+    const w = oncePerMinute(180);
+    const history = w.bucketHistory();
+    const watermark = at(179, 30_000);
+    const fineStart = at(179) - 2 * HOUR + MIN; // minute 60
+    expect(w.watermarkMs).toBe(watermark);
+    // Spans touch and never overlap; together they hold every event exactly once.
+    for (let i = 1; i < history.length; i += 1) expect(history[i]?.startMs).toBe(history[i - 1]?.endMs);
+    expect(history.reduce((n, b) => n + b.count, 0)).toBe(180);
+    const coarse = history.filter((b) => b.endMs - b.startMs > MIN);
+    expect(coarse.map((b) => [b.startMs, b.endMs])).toEqual([[at(0), fineStart]]);
+    expect(coarse[0]?.count).toBe(60);
+    const fine = history.filter((b) => b.endMs - b.startMs === MIN);
+    expect(fine).toHaveLength(120);
+    expect(fine[0]?.startMs).toBe(fineStart);
+    // Margin of minute k is (k mod 10)/10; thresholds default to [0.1, 0.2]: below 0.1 is k ≡ 0, below 0.2 is k ≡ 0, 1 (mod 10).
+    for (const b of fine) {
+      const k = (b.startMs - T0) / MIN;
+      expect(b.below).toEqual([k % 10 === 0 ? 1 : 0, k % 10 <= 1 ? 1 : 0]);
+    }
+    expect(coarse[0]?.below).toEqual([6, 12]);
+  });
+
+  it('keeps the counts of merged partitions exact per bucket', () => {
+    const a = oncePerMinute(30);
+    const b = oncePerMinute(30);
+    a.merge(b);
+    const history = a.bucketHistory();
+    expect(history).toHaveLength(30);
+    for (const h of history) expect(h.count).toBe(2);
+  });
+});
