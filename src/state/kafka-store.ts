@@ -247,7 +247,9 @@ export class KafkaCheckpointStore implements CheckpointStore {
   }
 
   private async ensureTopic(admin: Admin): Promise<void> {
+    let justCreated = false;
     if (!(await admin.listTopics()).includes(this.topic)) {
+      justCreated = true;
       const brokers = (await admin.describeCluster()).brokers.length;
       const replicationFactor = this.replicationFactor ?? Math.max(1, Math.min(3, brokers));
       const created = await admin.createTopics({
@@ -268,12 +270,21 @@ export class KafkaCheckpointStore implements CheckpointStore {
       // false: another watcher made it first, which is fine.
       this.log.info({ partitions: this.createPartitions, replicationFactor, created }, 'state topic created');
     }
-    const described = await admin.describeConfigs({
-      includeSynonyms: false,
-      resources: [{ type: ConfigResourceTypes.TOPIC, name: this.topic, configNames: ['cleanup.policy', 'max.message.bytes'] }],
-    });
-    const entries = described.resources[0]?.configEntries ?? [];
-    const policy = entries.find((e) => e.configName === 'cleanup.policy')?.configValue ?? '';
+    const describe = async () => {
+      const described = await admin.describeConfigs({
+        includeSynonyms: false,
+        resources: [{ type: ConfigResourceTypes.TOPIC, name: this.topic, configNames: ['cleanup.policy', 'max.message.bytes'] }],
+      });
+      const entries = described.resources[0]?.configEntries ?? [];
+      return { entries, policy: entries.find((e) => e.configName === 'cleanup.policy')?.configValue ?? '' };
+    };
+    let { entries, policy } = await describe();
+    // A topic created a moment ago can still answer with the broker's defaults (seen on a loaded broker):
+    // ask again for a while before calling the policy wrong.
+    for (let i = 0; justCreated && policy.trim() !== 'compact' && i < 40; i += 1) {
+      await new Promise((resolve) => setTimeout(resolve, 250));
+      ({ entries, policy } = await describe());
+    }
     if (policy.trim() !== 'compact') {
       throw new HeadroomError(
         'HR_ERR_CHECKPOINT_TOPIC',
