@@ -54,6 +54,8 @@ describe.skipIf(!inject('chromiumAvailable'))('the live page of a watcher on the
   let watcher: Watcher | undefined;
   let browser: Browser | undefined;
   let base = '';
+  /** For each labelled line-1 event, whether its label says the model was wrong. */
+  const line1Labels: boolean[] = [];
 
   const referencePath = join(dir, 'parcel-damage.json');
   const referenceEvents = ['1', '2', '3'].flatMap((line, i) =>
@@ -119,7 +121,17 @@ describe.skipIf(!inject('chromiumAvailable'))('the live page of a watcher on the
           { name: MODEL, version: VERSION, kind: 'probability', segments: { line: [HOSTILE_LINE] } },
         ],
       });
-      await producer.send({ topic, messages: [...minute, ...hostile].map((e, i) => ({ key: `parcel-${m}-${i}`, value: e.wire })) });
+      // Line 1's events carry the inspector's verdict: wrong (label against the predicted side) for every 7th.
+      const labelled = minute.map((e, i) => {
+        if (e.segment.line !== '1') return e.wire;
+        const event = JSON.parse(e.wire) as { score: { p: number }; label?: number };
+        const predicted = event.score.p >= 0.5 ? 1 : 0;
+        const label = i % 7 === 0 ? 1 - predicted : predicted;
+        if (event.score.p === 0.5) return e.wire; // on the boundary: no side to be right or wrong about
+        line1Labels.push(label !== predicted);
+        return JSON.stringify({ ...event, label });
+      });
+      await producer.send({ topic, messages: [...labelled, ...hostile].map((value, i) => ({ key: `parcel-${m}-${i}`, value: typeof value === 'string' ? value : value.wire })) });
       await sleep(300);
     }
     const firing = async (): Promise<boolean> => {
@@ -193,6 +205,11 @@ describe.skipIf(!inject('chromiumAvailable'))('the live page of a watcher on the
       for (const [colour, n] of Object.entries(calm)) expect(n, `line 1 CDF curve ${colour}`).toBeGreaterThan(30);
       expect(Object.keys(calm)).toHaveLength(2);
       expect(await opened.page.locator('#alerts-body .phase.calm').count()).toBe(1);
+      // Line 1's labels: its 5m/1h windows list the labelled count and the error rate computed here.
+      expect(await opened.page.locator('#labels-none').isHidden()).toBe(true);
+      const labelRows = await opened.page.locator('#labels-body tr').allTextContents();
+      const wrongShare = line1Labels.filter(Boolean).length / line1Labels.length;
+      expect(labelRows.some((r) => r.includes(`${line1Labels.length.toLocaleString('en-US')}`) && r.includes(`${(100 * wrongShare).toFixed(1)}%`))).toBe(true);
 
       expect(opened.errors).toEqual([]);
       expect(opened.dialogs).toEqual([]);

@@ -404,6 +404,26 @@ function renderDrift(detail) {
   });
 }
 
+function renderLabels(detail) {
+  const body = byId('labels-body');
+  clear(body);
+  const shown = detail.views.filter((v) => v.labels);
+  byId('labels-none').hidden = shown.length > 0;
+  shown.forEach((v) => {
+    const l = v.labels;
+    const row = el('tr');
+    row.appendChild(el('td', '', v.window));
+    row.appendChild(el('td', 'num', count(l.n)));
+    const e = l.errorRate;
+    row.appendChild(l.n === 0 ? el('td', 'num', '–') : twoLines(pct(e.share) + ' vs ' + pct(l.referenceErrorRate), '95%: ' + pct(e.lower) + ' – ' + pct(e.upper)));
+    const c = l.calibration;
+    row.appendChild(el('td', 'num', c ? fixed(c.ece, 3) + ' vs ' + fixed(c.referenceEce, 3) : '–'));
+    const f = l.labelFree;
+    row.appendChild(f ? twoLines(pct(f.estimate) + ' vs ' + pct(f.observed), 'calibrated model only') : el('td', 'num', '–'));
+    body.appendChild(row);
+  });
+}
+
 function same(a, s) { return a.model === s.model && a.version === s.version && a.segment === s.segment; }
 
 function renderAlerts(s) {
@@ -456,6 +476,7 @@ async function refreshDetail() {
   cdfChart(cdf, detail.thresholds);
   historyChart(history);
   renderDrift(detail);
+  renderLabels(detail);
   renderAlerts(s);
   state.lastDrawnKey = key;
   document.body.dataset.drawn = 'true';
