@@ -31,6 +31,7 @@ import {
   solvedThresholds,
 } from '../demo/index.js';
 import { referenceFileName } from '../reference/index.js';
+import { stopSignals } from './signals.js';
 
 /** Placeholder brokers for the embedded demo's configuration: it never connects to them. */
 const NO_BROKER = '127.0.0.1:9';
@@ -102,18 +103,6 @@ async function freePort(host: string, preferred: number): Promise<number> {
     const probe = createServer();
     probe.once('error', () => resolve(0));
     probe.listen(preferred, host, () => probe.close(() => resolve(preferred)));
-  });
-}
-
-function signals(): Promise<string> {
-  return new Promise((resolve) => {
-    const on = (signal: NodeJS.Signals): void => {
-      process.off('SIGTERM', on);
-      process.off('SIGINT', on);
-      resolve(signal);
-    };
-    process.once('SIGTERM', on);
-    process.once('SIGINT', on);
   });
 }
 
@@ -214,7 +203,7 @@ export async function runDemo(flags: DemoFlags): Promise<void> {
   if (durationMs !== undefined) out(`stopping after ${at(durationMs)}`);
 
   const stopped = new Promise<string>((resolve) => {
-    void signals().then(resolve);
+    void stopSignals().then(resolve);
     if (durationMs !== undefined) setTimeout(() => resolve('duration'), clock.wallMsFor(durationMs)).unref();
   });
   const why = await stopped;

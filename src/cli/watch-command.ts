@@ -13,6 +13,7 @@ import { combineNotifiers, createLogNotifier, createWebhookNotifier, noticeOf, r
 import type { Notifier } from '../notify/index.js';
 import { createWatcher } from '../stream/index.js';
 import { checkpointStoreFor } from './checkpoint-store.js';
+import { stopSignals } from './signals.js';
 
 /** A shutdown that takes longer than this exits 1 instead of hanging a deploy. */
 export const SHUTDOWN_TIMEOUT_MS = 15_000;
@@ -113,18 +114,6 @@ export async function runWatch(configPath: string, io: WatchIo): Promise<void> {
   if (fatal !== undefined) throw fatal;
 }
 
-function signals(): Promise<string> {
-  return new Promise((resolve) => {
-    const on = (signal: NodeJS.Signals): void => {
-      process.off('SIGTERM', on);
-      process.off('SIGINT', on);
-      resolve(signal);
-    };
-    process.once('SIGTERM', on);
-    process.once('SIGINT', on);
-  });
-}
-
 function hangups(reload: () => void): () => void {
   const on = (): void => reload();
   process.on('SIGHUP', on);
@@ -144,7 +133,7 @@ export function registerWatchCommand(program: Command): void {
     .addHelpText('after', HELP)
     .action(async (raw: { config: string }) => {
       try {
-        await runWatch(raw.config, { env: process.env, stopSignal: signals, onReloadSignal: hangups });
+        await runWatch(raw.config, { env: process.env, stopSignal: stopSignals, onReloadSignal: hangups });
       } finally {
         // Anything a failed step left open (a socket, a timer) must not keep the process past shutdown.
         setTimeout(() => process.exit(process.exitCode ?? 1), 2_000).unref();

@@ -38,6 +38,21 @@ export interface CheckpointStore {
   close(): Promise<void>;
 }
 
+/**
+ * Runs `work` as one of a store's calls under way (`pending`), so close() can wait for it; refused once
+ * the store is closing. The same bookkeeping for every store.
+ */
+export function trackCall<T>(pending: Set<Promise<unknown>>, closing: boolean, work: () => Promise<T>): Promise<T> {
+  if (closing) return Promise.reject(closedError());
+  const promise = work();
+  pending.add(promise);
+  const forget = (): void => {
+    pending.delete(promise);
+  };
+  promise.then(forget, forget);
+  return promise;
+}
+
 export function sortKeys(keys: CheckpointKey[]): CheckpointKey[] {
   return keys.sort((a, b) => (a.topic < b.topic ? -1 : a.topic > b.topic ? 1 : a.partition - b.partition));
 }

@@ -17,7 +17,7 @@
 import { mkdir, open, readdir, readFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { HeadroomError } from '../errors.js';
-import { checkGroup, checkKey, closedError, decodeCheckpoint, encodeCheckpoint, sortKeys } from './checkpoint-store.js';
+import { checkGroup, checkKey, decodeCheckpoint, encodeCheckpoint, sortKeys, trackCall } from './checkpoint-store.js';
 import type { CheckpointKey, CheckpointStore } from './checkpoint-store.js';
 import { badArgument } from './fail.js';
 import type { PartitionStateJson } from './partition-state.js';
@@ -153,14 +153,7 @@ export class FileCheckpointStore implements CheckpointStore {
   }
 
   private track<T>(work: () => Promise<T>): Promise<T> {
-    if (this.closing !== undefined) return Promise.reject(closedError());
-    const promise = work();
-    this.pending.add(promise);
-    const forget = (): void => {
-      this.pending.delete(promise);
-    };
-    promise.then(forget, forget);
-    return promise;
+    return trackCall(this.pending, this.closing !== undefined, work);
   }
 
   /** Makes the group's directory once, and makes its entry in the parent durable. */

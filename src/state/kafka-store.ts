@@ -26,7 +26,7 @@ import kafkajs from 'kafkajs';
 import type { Admin, Consumer, EachBatchPayload, IHeaders, Kafka, Producer } from 'kafkajs';
 import type { Logger } from 'pino';
 import { HeadroomError, isHeadroomError } from '../errors.js';
-import { checkGroup, checkKey, closedError, corrupt, decodeCheckpoint, encodeCheckpoint, sortKeys } from './checkpoint-store.js';
+import { checkGroup, checkKey, closedError, corrupt, decodeCheckpoint, encodeCheckpoint, sortKeys, trackCall } from './checkpoint-store.js';
 import type { CheckpointKey, CheckpointStore } from './checkpoint-store.js';
 import { badArgument } from './fail.js';
 import { DEFAULT_CHUNK_BYTES, KIND_HEADER, parseChunkKey, parseStateKey, planSave, recordWhere, staleChunkKeys, stateKey, statePartitionOf, unpackHead } from './kafka-records.js';
@@ -197,14 +197,7 @@ export class KafkaCheckpointStore implements CheckpointStore {
   }
 
   private track<T>(work: () => Promise<T>): Promise<T> {
-    if (this.closing !== undefined) return Promise.reject(closedError());
-    const promise = work();
-    this.pending.add(promise);
-    const forget = (): void => {
-      this.pending.delete(promise);
-    };
-    promise.then(forget, forget);
-    return promise;
+    return trackCall(this.pending, this.closing !== undefined, work);
   }
 
   private ready(): Promise<void> {
