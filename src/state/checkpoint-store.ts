@@ -31,6 +31,11 @@ export interface CheckpointKey {
 }
 
 export interface CheckpointStore {
+  /**
+   * True when other instances write to this store too (the Kafka-topic store): a partition handed over
+   * mid-run must then be restored from the store's latest save, not from a copy loaded at start.
+   */
+  readonly shared?: boolean;
   load(group: string, topic: string, partition: number): Promise<PartitionStateJson | undefined>;
   save(group: string, topic: string, partition: number, state: PartitionStateJson): Promise<void>;
   /** The partitions of `group` that have a checkpoint, sorted by topic and partition. */

@@ -92,6 +92,7 @@ function positive(field: string, value: number | undefined, fallback: number, ma
 export class KafkaCheckpointStore implements CheckpointStore {
   readonly topic: string;
   readonly readerGroupId: string;
+  readonly shared = true;
   private readonly kafka: Kafka;
   private readonly log: Logger;
   private readonly createPartitions: number;
