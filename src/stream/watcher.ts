@@ -45,6 +45,7 @@ import { ingestScored } from './ingest.js';
 import { createReferenceFiles } from './reference-files.js';
 import type { ReloadReport } from './reference-files.js';
 import { createOutputs } from './outputs.js';
+import { createClusterView } from './cluster-view.js';
 
 export interface WatcherDependencies {
   readonly config: HeadroomConfig;
@@ -192,6 +193,14 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
       })
       .sort((a, b) => (a.topic < b.topic ? -1 : a.topic > b.topic ? 1 : a.partition - b.partition));
 
+  // With a shared store: every partition of the group, ours live and the others from their last save.
+  const clusterView = shared
+    ? createClusterView({ store, group, topics, stateOptions, live: () => owned, log: log.child({ view: 'cluster' }), nowMs })
+    : undefined;
+  /** A simple election of the one exporter of cluster metrics: kafkajs gives each partition to one member. */
+  const firstTopic = config.kafka.topics[0] as string;
+  const exportsCluster = (): boolean => owned.has(partitionKey(firstTopic, 0));
+
   // The read view, alerts, metrics and HTTP server, shared with the embedded demo (outputs.ts).
   const outputs = createOutputs({
     config,
@@ -203,6 +212,21 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
     alertListeners: deps.alertListeners ?? [],
     alertDir: config.checkpoint.dir,
     ...(deps.thresholdFor === undefined ? {} : { thresholdFor: deps.thresholdFor }),
+    ...(clusterView === undefined
+      ? {}
+      : {
+          cluster: {
+            view: {
+              states: () => clusterView.states(),
+              readiness: () => {
+                const r = readiness();
+                return clusterView.info().refreshedAtMs === null ? { ready: false, reasons: [...r.reasons, 'cluster view not yet read'] } : r;
+              },
+              partitions,
+            },
+            exporting: exportsCluster,
+          },
+        }),
   });
   const { source, alerting } = outputs;
 
@@ -597,6 +621,7 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
           ),
         'lag refresh',
       );
+      if (clusterView !== undefined) every(Math.max(config.checkpoint.intervalMs, 1_000), () => clusterView.refresh(), 'cluster view refresh');
       if (alerting !== undefined) every(config.alerts.evaluateEveryMs, () => alerting.tick().then(() => undefined), 'alert evaluation');
       log.info({ group, topics: [...topics] }, 'consumer running');
     } catch (error) {
