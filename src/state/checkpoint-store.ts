@@ -38,6 +38,11 @@ export interface CheckpointStore {
   readonly shared?: boolean;
   load(group: string, topic: string, partition: number): Promise<PartitionStateJson | undefined>;
   save(group: string, topic: string, partition: number, state: PartitionStateJson): Promise<void>;
+  /**
+   * Optional: a token that changes whenever the partition's checkpoint does (undefined: none), as of the
+   * last list() or load(); lets a reader of every partition (the cluster view) skip unchanged ones.
+   */
+  revision?(group: string, topic: string, partition: number): string | undefined;
   /** The partitions of `group` that have a checkpoint, sorted by topic and partition. */
   list(group: string): Promise<CheckpointKey[]>;
   close(): Promise<void>;

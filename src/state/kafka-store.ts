@@ -173,6 +173,13 @@ export class KafkaCheckpointStore implements CheckpointStore {
     });
   }
 
+  /** The state topic partition and offset of the key's latest record, as far as read: no catch-up, no gunzip. */
+  revision(group: string, topic: string, partition: number): string | undefined {
+    checkKey(group, topic, partition);
+    const head = this.view.get(stateKey(group, topic, partition));
+    return head === undefined || head.value === null ? undefined : `${head.partition}:${head.offset}`;
+  }
+
   list(group: string): Promise<CheckpointKey[]> {
     return this.track(async () => {
       checkGroup(group);

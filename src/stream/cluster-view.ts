@@ -5,8 +5,9 @@
  * same mergeView as the per-instance view; a partition stands in it once, whoever owns it.
  *
  * Other owners' figures are as old as their last save (checkpoint.interval) plus the refresh period; a
- * partition moving between watchers is never counted twice, since each key appears once. States are
- * rebuilt only when their saved offsets change.
+ * partition moving between watchers is never counted twice, since each key appears once. A save is
+ * read and rebuilt only when it changed: by the store's revision when it has one (the Kafka store: the
+ * record's offset, so an unchanged partition costs no gunzip or parse), else by its saved offsets.
  */
 import type { Logger } from 'pino';
 import { PartitionState } from '../state/index.js';
@@ -51,10 +52,15 @@ export function createClusterView(options: ClusterViewOptions): ClusterView {
     for (const { topic, partition } of await store.list(group)) {
       if (!options.topics.has(topic)) continue;
       const key = keyOf(topic, partition);
+      const known = saved.get(key);
+      const revision = store.revision?.(group, topic, partition);
+      if (known !== undefined && revision !== undefined && known.mark === `r${revision}`) {
+        next.set(key, known);
+        continue;
+      }
       const json = await store.load(group, topic, partition);
       if (json === undefined) continue;
-      const known = saved.get(key);
-      const mark = markOf(json);
+      const mark = revision === undefined ? markOf(json) : `r${revision}`;
       if (known !== undefined && known.mark === mark) {
         next.set(key, known);
         continue;

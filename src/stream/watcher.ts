@@ -581,6 +581,9 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
         groupId: group,
         sessionTimeout: config.kafka.sessionTimeoutMs,
         heartbeatInterval: config.kafka.heartbeatIntervalMs,
+        // kafkajs sleeps a whole maxWaitTime when every partition it would fetch is paused (consumerGroup.fetch),
+        // so a partition restored from a shared store waits that long to be read: 1 s there, not the default 5.
+        ...(shared ? { maxWaitTimeInMs: 1_000 } : {}),
         // Only with outcome topics: the default deals partition p of two topics to different members (co-partition.ts).
         ...(scoredOf.size > 0 ? { partitionAssigners: [coPartitionedAssigner, PartitionAssigners.roundRobin] } : {}),
       });

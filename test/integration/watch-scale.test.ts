@@ -98,19 +98,26 @@ describe('three headroom watch processes on one group with checkpoints on a Kafk
     let killedAtMs = 0;
     for (let i = 0; i < EVENTS; i += CHUNK) {
       await producer.send({ topic, messages: events.slice(i, i + CHUNK).map((e, j) => ({ key: `parcel-${(i + j) % 997}`, value: e.wire })) });
-      if (i === CHUNK * 20) {
+      // From a third of the way: the first chunk at which b has saved every partition it owns (its checkpoint
+      // age is exported once it has), so that its saves are what its partitions' next owners must restore.
+      const bSamples = i >= CHUNK * 20 && killedAtMs === 0 ? await scrape(b.url) : [];
+      const bLag = bSamples.filter((x) => x.name === 'headroom_consumer_lag_messages').map((x) => x.labels.partition);
+      const bSaved = new Set(bSamples.filter((x) => x.name === 'headroom_checkpoint_age_seconds').map((x) => x.labels.partition));
+      if (bLag.length > 0 && bLag.every((p) => bSaved.has(p))) {
         // What b owns as it dies: the partitions on its lag gauge (one sample per owned partition).
-        bOwned = new Set((await scrape(b.url)).filter((x) => x.name === 'headroom_consumer_lag_messages').map((x) => Number(x.labels.partition)));
+        bOwned = new Set(bLag.map(Number));
         killedAtMs = Date.now();
         log(`SIGKILL b after ${i + CHUNK} events; it owned ${[...bOwned].join(',')}`);
         b.cli.child.kill('SIGKILL');
       }
-      if (i === CHUNK * 40) {
+      if (d === undefined && killedAtMs > 0 && i >= CHUNK * 40) {
         log(`starting d after ${i + CHUNK} events`);
         d = await start('d');
       }
       await sleep(200);
     }
+    expect(killedAtMs, 'b saved every partition it owned, and was killed, before the production ended').toBeGreaterThan(0);
+    expect(d, 'd started after the kill').toBeDefined();
     expect(await b.cli.exited).toBe('SIGKILL');
     const live = [a, c, d as Member];
     const expected = expectedSeries(events, THRESHOLDS);
@@ -155,12 +162,13 @@ describe('three headroom watch processes on one group with checkpoints on a Kafk
     }
 
     // Every partition b owned went to a live watcher, restored from the state topic.
-    const assigned = (m: Member) => m.cli.logLines().filter((l) => l.msg === 'partition assigned') as { partition: number; restored: boolean; time: number }[];
+    const assigned = (m: Member) => m.cli.logLines().filter((l) => l.msg === 'partition assigned') as { partition: number; restored: boolean; time: number; offset: string }[];
     expect(bOwned.size).toBeGreaterThan(0);
     for (const p of bOwned) {
       const takers = live.flatMap((m) => assigned(m).filter((l) => l.partition === p && l.time > killedAtMs));
       expect(takers.length, `partition ${p} of b taken over`).toBeGreaterThan(0);
-      expect(takers.some((l) => l.restored), `partition ${p} restored by its next owner`).toBe(true);
+      const story = [b, ...live].map((m) => `${m.name}: ${JSON.stringify(assigned(m).filter((l) => l.partition === p))}`).join('\n');
+      expect(takers.some((l) => l.restored), `partition ${p} restored by its next owner (killed at ${killedAtMs})\n${story}`).toBe(true);
     }
 
     // SIGTERM: each saves its partitions; the state topic then holds every event once.
