@@ -25,6 +25,8 @@ export interface AppDependencies {
   readonly pageDir?: string;
   /** Told of every failure that is not a HeadroomError (a bug); default: nothing. Pass the component's logger. */
   readonly onError?: (error: unknown) => void;
+  /** Every partition of the group (several watchers on a shared checkpoint store), served under /api/cluster. */
+  readonly cluster?: WatchedSeriesSource;
 }
 
 export function createApp(deps: AppDependencies): Express {
@@ -53,6 +55,7 @@ export function createApp(deps: AppDependencies): Express {
     const { ready, reasons } = deps.source.readiness();
     res.status(ready ? 200 : 503).json({ ready, reasons });
   });
+  if (deps.cluster !== undefined) app.use('/api/cluster', createApiRouter({ source: deps.cluster, views, quantiles, nowMs: deps.nowMs }));
   app.use(createPageRouter(loadPageAssets(deps.pageDir)));
   app.use('/api', createApiRouter({ source: deps.source, views, quantiles, nowMs: deps.nowMs }));
 

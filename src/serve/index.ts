@@ -2,6 +2,8 @@
 export { createApp } from './app.js';
 export type { AppDependencies } from './app.js';
 export { DEFAULT_CDF_POINTS, MAX_CDF_POINTS, MIN_CDF_POINTS } from './api.js';
+export { createClusterMetrics } from './cluster-metrics.js';
+export type { ClusterMetricsOptions } from './cluster-metrics.js';
 export { createMetrics } from './metrics.js';
 export type { HeadroomMetrics, MetricsOptions } from './metrics.js';
 export type {

@@ -31,8 +31,18 @@ export interface CheckpointKey {
 }
 
 export interface CheckpointStore {
+  /**
+   * True when other instances write to this store too (the Kafka-topic store): a partition handed over
+   * mid-run must then be restored from the store's latest save, not from a copy loaded at start.
+   */
+  readonly shared?: boolean;
   load(group: string, topic: string, partition: number): Promise<PartitionStateJson | undefined>;
   save(group: string, topic: string, partition: number, state: PartitionStateJson): Promise<void>;
+  /**
+   * Optional: a token that changes whenever the partition's checkpoint does (undefined: none), as of the
+   * last list() or load(); lets a reader of every partition (the cluster view) skip unchanged ones.
+   */
+  revision?(group: string, topic: string, partition: number): string | undefined;
   /** The partitions of `group` that have a checkpoint, sorted by topic and partition. */
   list(group: string): Promise<CheckpointKey[]>;
   close(): Promise<void>;

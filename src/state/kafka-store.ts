@@ -92,6 +92,7 @@ function positive(field: string, value: number | undefined, fallback: number, ma
 export class KafkaCheckpointStore implements CheckpointStore {
   readonly topic: string;
   readonly readerGroupId: string;
+  readonly shared = true;
   private readonly kafka: Kafka;
   private readonly log: Logger;
   private readonly createPartitions: number;
@@ -170,6 +171,13 @@ export class KafkaCheckpointStore implements CheckpointStore {
         if (this.saving.get(key) === run) this.saving.delete(key);
       }
     });
+  }
+
+  /** The state topic partition and offset of the key's latest record, as far as read: no catch-up, no gunzip. */
+  revision(group: string, topic: string, partition: number): string | undefined {
+    checkKey(group, topic, partition);
+    const head = this.view.get(stateKey(group, topic, partition));
+    return head === undefined || head.value === null ? undefined : `${head.partition}:${head.offset}`;
   }
 
   list(group: string): Promise<CheckpointKey[]> {

@@ -11,7 +11,7 @@ import type { Logger } from 'pino';
 import type { Registry } from 'prom-client';
 import type { ThresholdFor } from '../alerts/index.js';
 import type { HeadroomConfig } from '../config/index.js';
-import { createApp, createMetrics } from '../serve/index.js';
+import { createApp, createClusterMetrics, createMetrics } from '../serve/index.js';
 import type { WatchedSeriesSource } from '../serve/index.js';
 import { createAlertRunner } from './alert-runner.js';
 import type { AlertRunner, TransitionListener } from './alert-runner.js';
@@ -32,6 +32,8 @@ export interface OutputsOptions {
   readonly alertDir: string | null;
   /** Passed to the alert runner (see AlertRunnerOptions.thresholdFor). */
   readonly thresholdFor?: ThresholdFor;
+  /** Several watchers: the whole group's states (/api/cluster, headroom_cluster_ metrics while `exporting`). */
+  readonly cluster?: { readonly view: SourceView; readonly exporting: () => boolean };
 }
 
 export interface Outputs {
@@ -65,11 +67,23 @@ export function createOutputs(options: OutputsOptions): Outputs {
         });
   const source: WatchedSeriesSource = alerting === undefined ? series : { ...series, alerts: () => alerting.report() };
   createMetrics({ registry, source, views: config.windows, nowMs });
+  const cluster = options.cluster === undefined ? undefined : createSeriesSource(options.cluster.view, options.references);
+  if (cluster !== undefined && options.cluster !== undefined) {
+    const view = options.cluster.view;
+    createClusterMetrics({ registry, source: cluster, views: config.windows, exporting: options.cluster.exporting, partitions: () => view.states().length });
+  }
   let server: Server | undefined;
   let address: string | undefined;
 
   async function listen(): Promise<string> {
-    const app = createApp({ registry, source, views: config.windows, nowMs, onError: (error) => httpLog.error({ err: error }, 'request failed') });
+    const app = createApp({
+      registry,
+      source,
+      views: config.windows,
+      nowMs,
+      onError: (error) => httpLog.error({ err: error }, 'request failed'),
+      ...(cluster === undefined ? {} : { cluster }),
+    });
     const s = createServer(app);
     server = s;
     await new Promise<void>((resolve, reject) => {

@@ -3,10 +3,16 @@
  * partition, checkpointed with its offset, and an HTTP server over the merged states.
  *
  * Exactly-once, in three moves (DESIGN "Series, windows, state"; src/state/partition-state.ts):
- * - Before run(), every checkpoint of the group is loaded into memory and checked. kafkajs only honours
- *   a seek made synchronously inside the GROUP_JOIN listener (applied at the next fetch), so the
- *   listener must not wait on the disk: it restores each assigned partition from memory and seeks to
- *   the stored next offset. A partition without a checkpoint starts empty at the earliest offset.
+ * - A seek must reach kafkajs before the partition's first fetch, or that fetch starts from the
+ *   committed offset; the GROUP_JOIN listener runs before it, so the listener does not wait. With a
+ *   store of this instance only (files), every checkpoint of the group is loaded and checked before
+ *   run(), and the listener restores each assigned partition from memory and seeks to the stored next
+ *   offset. With a shared store (the Kafka topic) a partition may come from another watcher mid-run, so
+ *   the listener pauses each newly assigned partition, loads its latest save from the store, and only
+ *   then seeks and resumes it (restoreShared). kafkajs applies pending seeks of every assigned
+ *   partition, paused or not, at the start of each fetch of its broker (consumerGroup.fetch →
+ *   seekOffsets), and fetches a paused partition not at all, so the seek is in place before the first
+ *   fetch after the resume. A partition without a checkpoint starts empty at the earliest offset.
  * - Each message of a batch is decoded and applied (or rejected) in offset order; an offset below the
  *   state's next offset is skipped (a fetch made before the seek took effect).
  * - Every checkpoint interval (and at shutdown) each owned state is saved, THEN its next offset is
@@ -39,6 +45,7 @@ import { ingestScored } from './ingest.js';
 import { createReferenceFiles } from './reference-files.js';
 import type { ReloadReport } from './reference-files.js';
 import { createOutputs } from './outputs.js';
+import { createClusterView } from './cluster-view.js';
 
 export interface WatcherDependencies {
   readonly config: HeadroomConfig;
@@ -120,6 +127,12 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
   const outcomeReaders = new Map<string, string>();
   let unpairedNotes: string[] = [];
   let pausedOutcomes: { topic: string; partitions: number[] }[] = [];
+  /** The store is written by other watchers too: restore each newly assigned partition from it (restoreShared). */
+  const shared = store.shared === true;
+  /** Partitions paused while their state is loaded from a shared store, with the token of that load. */
+  const restoring = new Map<string, number>();
+  let restoreTokens = 0;
+  let lastAssignment: Record<string, number[]> = {};
 
   const references = createReferenceFiles({ models: config.models, nowMs, log });
   /** Last saved (or loaded) state of each partition of the group: what an assignment restores from. */
@@ -159,6 +172,7 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
     if (restoreFailure !== undefined) reasons.push(restoreFailure.message);
     if (brokerUnreachable !== undefined) reasons.push(`broker unreachable: ${brokerUnreachable}`);
     if (!joined) reasons.push(`not yet a member of consumer group ${group}`);
+    if (restoring.size > 0) reasons.push(`restoring ${[...restoring.keys()].map((k) => k.replace('\u0000', '[')).join('], ')}] from the checkpoint store`);
     reasons.push(...unpairedNotes);
     return { ready: reasons.length === 0, reasons };
   };
@@ -179,6 +193,14 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
       })
       .sort((a, b) => (a.topic < b.topic ? -1 : a.topic > b.topic ? 1 : a.partition - b.partition));
 
+  // With a shared store: every partition of the group, ours live and the others from their last save.
+  const clusterView = shared
+    ? createClusterView({ store, group, topics, stateOptions, live: () => owned, log: log.child({ view: 'cluster' }), nowMs })
+    : undefined;
+  /** A simple election of the one exporter of cluster metrics: kafkajs gives each partition to one member. */
+  const firstTopic = config.kafka.topics[0] as string;
+  const exportsCluster = (): boolean => owned.has(partitionKey(firstTopic, 0));
+
   // The read view, alerts, metrics and HTTP server, shared with the embedded demo (outputs.ts).
   const outputs = createOutputs({
     config,
@@ -190,10 +212,27 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
     alertListeners: deps.alertListeners ?? [],
     alertDir: config.checkpoint.dir,
     ...(deps.thresholdFor === undefined ? {} : { thresholdFor: deps.thresholdFor }),
+    ...(clusterView === undefined
+      ? {}
+      : {
+          cluster: {
+            view: {
+              states: () => clusterView.states(),
+              readiness: () => {
+                const r = readiness();
+                return clusterView.info().refreshedAtMs === null ? { ready: false, reasons: [...r.reasons, 'cluster view not yet read'] } : r;
+              },
+              partitions,
+            },
+            exporting: exportsCluster,
+          },
+        }),
   });
   const { source, alerting } = outputs;
 
   async function loadCheckpoints(): Promise<void> {
+    // A shared store's saves change under us; each assignment loads its partition then (restoreShared).
+    if (shared) return;
     for (const { topic, partition } of await store.list(group)) {
       if (!topics.has(topic)) continue;
       const json = await store.load(group, topic, partition);
@@ -228,16 +267,22 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
         const key = partitionKey(topic, partition);
         assigned.add(key);
         let state = owned.get(key);
+        if (state === undefined && shared) {
+          if (!restoring.has(key)) {
+            const token = ++restoreTokens;
+            restoring.set(key, token);
+            void restoreShared(topic, partition, token);
+          }
+          // Also when a load is under way: the pause is kept by kafkajs across rebalances, asking again costs nothing.
+          c.pause([{ topic, partitions: [partition] }]);
+          continue;
+        }
         if (state === undefined) {
           const json = saved.get(key);
           try {
             state = json === undefined ? new PartitionState(stateOptions(topic, partition)) : PartitionState.fromState(json, stateOptions(topic, partition));
           } catch (error) {
-            restoreFailure = new HeadroomError('HR_ERR_WATCH_RESTORE', `${topic}[${partition}]: ${error instanceof Error ? error.message : String(error)}`, {
-              cause: error,
-              context: { topic, partition },
-            });
-            log.error({ err: restoreFailure, topic, partition }, 'partition not restored; it is not consumed');
+            failRestore(topic, partition, error);
             continue;
           }
           owned.set(key, state);
@@ -247,6 +292,9 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
         log.info({ topic, partition, offset: offset ?? 'earliest', restored: saved.has(key) }, 'partition assigned');
       }
     }
+    for (const key of [...restoring.keys()]) {
+      if (!assigned.has(key)) restoring.delete(key); // its load, when it ends, is dropped
+    }
     for (const key of [...owned.keys()]) {
       if (!assigned.has(key)) {
         const state = owned.get(key);
@@ -254,9 +302,68 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
         log.info({ topic: state?.topic, partition: state?.partition }, 'partition revoked; progress after its last checkpoint is read again by its next owner');
       }
     }
+    lastAssignment = assignment;
     if (scoredOf.size > 0) pairOutcomes(c, assignment);
     joined = true;
     everJoined = true;
+  }
+
+  /**
+   * Loads a newly assigned partition's latest save from the shared store (the previous owner's, when it
+   * moved), then restores it, seeks to its next offset and resumes it, all in one synchronous step so no
+   * fetch sees the partition resumed without its seek. Dropped if the partition was revoked meanwhile
+   * (another load starts if it comes back). A store that cannot be read is asked again every 2 s; a
+   * checkpoint that cannot be restored leaves the partition paused and says so in /readyz.
+   */
+  async function restoreShared(topic: string, partition: number, token: number): Promise<void> {
+    const key = partitionKey(topic, partition);
+    const current = (): boolean => restoring.get(key) === token && !stopping;
+    let json: PartitionStateJson | undefined;
+    for (;;) {
+      try {
+        json = await store.load(group, topic, partition);
+        break;
+      } catch (error) {
+        if (!current()) return;
+        if (isHeadroomError(error) && error.code === 'HR_ERR_CHECKPOINT_IO') {
+          log.warn({ err: error, topic, partition }, 'checkpoint store unreadable; partition stays paused, trying again in 2 s');
+          await new Promise((resolve) => setTimeout(resolve, 2_000).unref());
+          if (!current()) return;
+          continue;
+        }
+        restoring.delete(key);
+        failRestore(topic, partition, error);
+        return;
+      }
+    }
+    const c = consumer;
+    if (!current() || c === undefined) return;
+    let state: PartitionState;
+    try {
+      state = json === undefined ? new PartitionState(stateOptions(topic, partition)) : PartitionState.fromState(json, stateOptions(topic, partition));
+    } catch (error) {
+      restoring.delete(key);
+      failRestore(topic, partition, error);
+      return;
+    }
+    restoring.delete(key);
+    owned.set(key, state);
+    queuedOffset.delete(key);
+    if (json === undefined) saved.delete(key);
+    else saved.set(key, json);
+    const offset = state.nextOffset ?? lows.get(key);
+    if (offset !== undefined) c.seek({ topic, partition, offset });
+    c.resume([{ topic, partitions: [partition] }]);
+    log.info({ topic, partition, offset: offset ?? 'earliest', restored: json !== undefined }, 'partition assigned');
+    if (scoredOf.size > 0) pairOutcomes(c, lastAssignment);
+  }
+
+  function failRestore(topic: string, partition: number, error: unknown): void {
+    restoreFailure = new HeadroomError('HR_ERR_WATCH_RESTORE', `${topic}[${partition}]: ${error instanceof Error ? error.message : String(error)}`, {
+      cause: error,
+      context: { topic, partition },
+    });
+    log.error({ err: restoreFailure, topic, partition }, 'partition not restored; it is not consumed');
   }
 
   /** Seeks each outcome partition read here to its state's outcome offset; pauses the ones without their scored partition. */
@@ -264,8 +371,10 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
     if (pausedOutcomes.length > 0) c.resume(pausedOutcomes);
     const plan = planPairs(assignment, scoredOf, outcomeOf, partitionKey);
     outcomeReaders.clear();
+    const waiting: { topic: string; partitions: number[] }[] = [];
     for (const { topic, partition, stateKey } of plan.read) {
       const state = owned.get(stateKey);
+      if (state === undefined && restoring.has(stateKey)) waiting.push({ topic, partitions: [partition] }); // sought and resumed once its state is in
       if (state === undefined) continue; // not restored: see restoreFailure
       outcomeReaders.set(partitionKey(topic, partition), stateKey);
       const offset = state.outcomeNextOffset ?? lows.get(partitionKey(topic, partition));
@@ -274,7 +383,7 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
     }
     const byTopic = new Map<string, number[]>();
     for (const { topic, partition } of plan.unpaired) byTopic.set(topic, [...(byTopic.get(topic) ?? []), partition]);
-    pausedOutcomes = [...byTopic].map(([topic, partitions]) => ({ topic, partitions }));
+    pausedOutcomes = [...[...byTopic].map(([topic, partitions]) => ({ topic, partitions })), ...waiting];
     if (pausedOutcomes.length > 0) c.pause(pausedOutcomes);
     unpairedNotes = [
       ...plan.unpaired.map((u) => `outcome partition ${u.topic}[${u.partition}] is assigned without scored partition ${scoredOf.get(u.topic)}[${u.partition}]; paused`),
@@ -472,6 +581,9 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
         groupId: group,
         sessionTimeout: config.kafka.sessionTimeoutMs,
         heartbeatInterval: config.kafka.heartbeatIntervalMs,
+        // kafkajs sleeps a whole maxWaitTime when every partition it would fetch is paused (consumerGroup.fetch),
+        // so a partition restored from a shared store waits that long to be read: 1 s there, not the default 5.
+        ...(shared ? { maxWaitTimeInMs: 1_000 } : {}),
         // Only with outcome topics: the default deals partition p of two topics to different members (co-partition.ts).
         ...(scoredOf.size > 0 ? { partitionAssigners: [coPartitionedAssigner, PartitionAssigners.roundRobin] } : {}),
       });
@@ -512,6 +624,7 @@ export function createWatcher(deps: WatcherDependencies): Watcher {
           ),
         'lag refresh',
       );
+      if (clusterView !== undefined) every(Math.max(config.checkpoint.intervalMs, 1_000), () => clusterView.refresh(), 'cluster view refresh');
       if (alerting !== undefined) every(config.alerts.evaluateEveryMs, () => alerting.tick().then(() => undefined), 'alert evaluation');
       log.info({ group, topics: [...topics] }, 'consumer running');
     } catch (error) {

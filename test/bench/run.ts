@@ -16,6 +16,7 @@ const BENCHES: ReadonlyArray<{ file: string; title: string; args?: string[] }> =
   { file: 'label-memory.ts', title: 'delayed labels: heap bytes per waiting prediction, and checkpoint bytes' },
   { file: 'alert-simulation.ts', title: 'alerts: CUSUM (event by event and bucket feed) vs fixed-window threshold, false alarms and delay' },
   { file: 'watch-e2e.ts', title: 'headroom watch end to end on a real broker vs a bare kafkajs eachBatch + JSON.parse consumer' },
+  { file: 'scale.ts', title: 'events/s through 1, 2 and 3 headroom watch processes on one group, checkpoints on a Kafka topic' },
   { file: 'replay.ts', title: 'headroom replay of a 1e6-event .gz JSONL file vs a raw gunzip + line split of the same file' },
 ];
 

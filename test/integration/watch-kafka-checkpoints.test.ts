@@ -111,6 +111,44 @@ describe('headroom watch with checkpoints on a Kafka topic', () => {
     expect(lines.filter((l) => l.includes('"level":50'))).toEqual([]);
   }, 300_000);
 
+  it("a partition that moves mid-run is restored from its previous owner's latest save, not from the store as it was at start", async () => {
+    const topic = uniqueName('kstore-move-events');
+    const groupId = uniqueName('kstore-move-group');
+    const stateTopic = uniqueName('kstore-move-state');
+    await admin.createTopics({ topics: [{ topic, numPartitions: PARTITIONS, replicationFactor: 1 }], waitForLeaders: true });
+    // Both start on an empty state topic, so neither could have A's states from a load made at start.
+    const a = await startWatcher(topic, groupId, stateTopic);
+    const b = await startWatcher(topic, groupId, stateTopic);
+    const urls = [a.watcher.url() as string, b.watcher.url() as string];
+    await until('the two watchers to share the partitions', () => a.watcher.source.partitions().length > 0 && b.watcher.source.partitions().length > 0, 120_000);
+    const aOwned = a.watcher.source.partitions().map((p) => p.partition);
+    expect(aOwned.length + b.watcher.source.partitions().length).toBe(PARTITIONS);
+
+    const first = makeScoredEvents({ n: 3_000, seed: 44, fromMs: Date.now() - 100_000, spanMs: 60_000, idPrefix: 'm', thresholds: THRESHOLDS });
+    const later = makeScoredEvents({ n: 2_000, seed: 45, fromMs: Date.now() - 30_000, spanMs: 20_000, idPrefix: 'n', thresholds: THRESHOLDS });
+    await producer.send({ topic, messages: first.map((e, i) => ({ key: `parcel-${i % 101}`, value: e.wire })) });
+    const total = async (): Promise<number> => (await Promise.all(urls.map(async (u) => countedMessages(await scrape(u))))).reduce((x, y) => x + y, 0);
+    await until(`${first.length} messages counted by the two`, async () => (await total()) >= first.length, 120_000);
+    expect(await total()).toBe(first.length);
+    // A's events leave the input topic: once A stops, only its last saves on the state topic hold them.
+    const ends = await admin.fetchTopicOffsets(topic);
+    await admin.deleteTopicRecords({ topic, partitions: ends.map((p) => ({ partition: p.partition, offset: p.high })) });
+    const mark = lines.length;
+    await a.watcher.close();
+
+    await producer.send({ topic, messages: later.map((e, i) => ({ key: `parcel-${i % 101}`, value: e.wire })) });
+    await until('B to own every partition', () => b.watcher.source.partitions().length === PARTITIONS, 120_000);
+    await waitForCount(b.watcher, first.length + later.length);
+    await expectWatcherShows(urls[1] as string, expectedSeries([...first, ...later], THRESHOLDS), '5m');
+    const taken = lines
+      .slice(mark)
+      .map((l) => JSON.parse(l) as { msg?: string; restored?: boolean; partition?: number })
+      .filter((l) => l.msg === 'partition assigned');
+    // Each of A's partitions, restored by B from A's save (B's own are logged again at the rebalance too).
+    for (const p of aOwned) expect(taken.filter((l) => l.partition === p).map((l) => l.restored)).toEqual([true]);
+    expect(b.watcher.source.readiness()).toEqual({ ready: true, reasons: [] });
+  }, 300_000);
+
   it('headroom watch with checkpoint.store kafka counts, exits 0 on SIGTERM, and leaves its states on the topic', async () => {
     const topic = uniqueName('kstore-cli-events');
     const groupId = uniqueName('kstore-cli-group');
