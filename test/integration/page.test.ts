@@ -210,6 +210,17 @@ describe.skipIf(!inject('chromiumAvailable'))('the live page of a watcher on the
       const labelRows = await opened.page.locator('#labels-body tr').allTextContents();
       const wrongShare = line1Labels.filter(Boolean).length / line1Labels.length;
       expect(labelRows.some((r) => r.includes(`${line1Labels.length.toLocaleString('en-US')}`) && r.includes(`${(100 * wrongShare).toFixed(1)}%`))).toBe(true);
+      // The margin-loss curve at θ = 0 is the error rate; reliability bins are listed for probability scores.
+      // The 1h window holds every labelled event of the test.
+      await opened.page.selectOption('#window', '1h');
+      await opened.page.waitForFunction(() => {
+        const doc = (globalThis as unknown as { document: { getElementById(id: string): { textContent: string | null } | null } }).document;
+        return (doc.getElementById('loss-title')?.textContent ?? '').includes('(1h)');
+      });
+      const lossRows = await opened.page.locator('#loss-body tr').allTextContents();
+      expect(lossRows.length).toBeGreaterThanOrEqual(5);
+      expect(lossRows.some((r) => r.startsWith('0') && r.includes(`${(100 * wrongShare).toFixed(1)}%`))).toBe(true);
+      expect(await opened.page.locator('#reliability-body tr').count()).toBe(10);
 
       expect(opened.errors).toEqual([]);
       expect(opened.dialogs).toEqual([]);

@@ -422,6 +422,32 @@ function renderLabels(detail) {
     row.appendChild(f ? twoLines(pct(f.estimate) + ' vs ' + pct(f.observed), 'calibrated model only') : el('td', 'num', '–'));
     body.appendChild(row);
   });
+  const chosen = shown.find((v) => v.window === state.window) || shown[0];
+  const loss = byId('loss-body');
+  const reliability = byId('reliability-body');
+  clear(loss);
+  clear(reliability);
+  // Without a labelled prediction in the window there is no curve to show, only dashes.
+  byId('labels-detail').hidden = !chosen || chosen.labels.n === 0;
+  if (!chosen || chosen.labels.n === 0) return;
+  setText(byId('loss-title'), 'Margin loss, live vs reference (' + chosen.window + ')');
+  chosen.labels.marginLoss.forEach((m) => {
+    const row = el('tr');
+    row.appendChild(el('td', 'num', String(m.theta)));
+    row.appendChild(el('td', 'num', pct(m.live)));
+    row.appendChild(el('td', 'num', pct(m.reference)));
+    loss.appendChild(row);
+  });
+  const c = chosen.labels.calibration;
+  const bins = c ? (c.live || c.reference || []) : [];
+  const describeBin = (b) => (b ? count(b.count) + ', ' + fixed(b.meanPredicted, 3) + ', ' + fixed(b.observedRate, 3) : '–');
+  bins.forEach((b, i) => {
+    const row = el('tr');
+    row.appendChild(el('td', '', fixed(b.lower, 1) + '–' + fixed(b.upper, 1)));
+    row.appendChild(el('td', 'num', describeBin(c.live && c.live[i])));
+    row.appendChild(el('td', 'num', describeBin(c.reference && c.reference[i])));
+    reliability.appendChild(row);
+  });
 }
 
 function same(a, s) { return a.model === s.model && a.version === s.version && a.segment === s.segment; }
