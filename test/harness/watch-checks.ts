@@ -7,6 +7,7 @@ import { parseExposition, value } from '../unit/serve/exposition.js';
 import type { Sample } from '../unit/serve/exposition.js';
 import type { ExpectedSeries, Malformed } from './scored-events.js';
 import { reasonCounts } from './scored-events.js';
+import { until } from './wait.js';
 
 export async function scrape(url: string): Promise<Sample[]> {
   const response = await fetch(`${url}/metrics`);
@@ -25,6 +26,26 @@ export async function apiSeries(url: string): Promise<ApiSeries[]> {
   const response = await fetch(`${url}/api/series`);
   expect(response.status).toBe(200);
   return ((await response.json()) as { series: ApiSeries[] }).series;
+}
+
+/** What waitUntilCounted reads of a watcher (src/stream's Watcher has it). */
+interface CountedWatcher {
+  url(): string | undefined;
+  readonly source: { partitions(): readonly { lagMessages: number | null }[] };
+}
+
+/**
+ * Waits until `total` messages are counted and every one of `partitions` has lag 0, then checks the count
+ * once more: a message counted twice would push it past `total` by then.
+ */
+export async function waitUntilCounted(watcher: CountedWatcher, partitions: number, total: number, timeoutMs = 240_000): Promise<void> {
+  const url = watcher.url() as string;
+  await until(`all ${total} messages counted`, async () => countedMessages(await scrape(url)) >= total, timeoutMs);
+  await until('lag 0 on every partition', () => {
+    const p = watcher.source.partitions();
+    return p.length === partitions && p.every((x) => x.lagMessages === 0);
+  });
+  expect(countedMessages(await scrape(url))).toBe(total);
 }
 
 /** Sum of `headroom_events_total{segment="all"}` plus every rejection: the messages counted so far. */

@@ -22,7 +22,7 @@ import { uniqueName } from '../harness/names.js';
 import { freePort } from '../kafka/broker.js';
 import { expectedSeries, makeScoredEvents } from '../harness/scored-events.js';
 import { until } from '../harness/wait.js';
-import { countedMessages, expectWatcherShows, scrape } from '../harness/watch-checks.js';
+import { countedMessages, expectWatcherShows, scrape, waitUntilCounted } from '../harness/watch-checks.js';
 
 const PARTITIONS = 3;
 const THRESHOLDS = [0.1, 0.25];
@@ -59,16 +59,6 @@ describe('headroom watch with checkpoints on a Kafka topic', () => {
     return { watcher, dir };
   };
 
-  const waitForCount = async (watcher: Watcher, total: number): Promise<void> => {
-    const url = watcher.url() as string;
-    await until(`${total} messages counted`, async () => countedMessages(await scrape(url)) >= total, 120_000);
-    await until('lag 0 on every partition', () => {
-      const p = watcher.source.partitions();
-      return p.length === PARTITIONS && p.every((x) => x.lagMessages === 0);
-    });
-    expect(countedMessages(await scrape(url))).toBe(total);
-  };
-
   beforeAll(async () => {
     await admin.connect();
     await producer.connect();
@@ -91,7 +81,7 @@ describe('headroom watch with checkpoints on a Kafka topic', () => {
     await producer.send({ topic, messages: first.map((e, i) => ({ key: `parcel-${i % 101}`, value: e.wire })) });
 
     const a = await startWatcher(topic, groupId, stateTopic);
-    await waitForCount(a.watcher, first.length);
+    await waitUntilCounted(a.watcher, PARTITIONS, first.length, 120_000);
     await a.watcher.close();
     // Nothing of the state went to checkpoint.dir: it is all on the topic (only the alert state would be a file).
     expect(readdirSync(a.dir)).toEqual([]);
@@ -103,7 +93,7 @@ describe('headroom watch with checkpoints on a Kafka topic', () => {
     await producer.send({ topic, messages: later.map((e, i) => ({ key: `parcel-${i % 101}`, value: e.wire })) });
 
     const b = await startWatcher(topic, groupId, stateTopic);
-    await waitForCount(b.watcher, first.length + later.length);
+    await waitUntilCounted(b.watcher, PARTITIONS, first.length + later.length, 120_000);
     await expectWatcherShows(b.watcher.url() as string, expectedSeries([...first, ...later], THRESHOLDS), '5m');
     const assigned = lines.map((l) => JSON.parse(l) as { msg?: string; restored?: boolean }).filter((l) => l.msg === 'partition assigned');
     // A's three assignments (nothing to restore) and B's three (each restored).
@@ -138,7 +128,7 @@ describe('headroom watch with checkpoints on a Kafka topic', () => {
 
     await producer.send({ topic, messages: later.map((e, i) => ({ key: `parcel-${i % 101}`, value: e.wire })) });
     await until('B to own every partition', () => b.watcher.source.partitions().length === PARTITIONS, 120_000);
-    await waitForCount(b.watcher, first.length + later.length);
+    await waitUntilCounted(b.watcher, PARTITIONS, first.length + later.length, 120_000);
     await expectWatcherShows(urls[1] as string, expectedSeries([...first, ...later], THRESHOLDS), '5m');
     const taken = lines
       .slice(mark)

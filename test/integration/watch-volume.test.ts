@@ -22,7 +22,7 @@ import { expectedSeries, makeMalformed, makeScoredEvents } from '../harness/scor
 import type { Malformed } from '../harness/scored-events.js';
 import { readTopic } from '../harness/topics.js';
 import { until } from '../harness/wait.js';
-import { countedMessages, expectWatcherShows, scrape } from '../harness/watch-checks.js';
+import { countedMessages, expectWatcherShows, scrape, waitUntilCounted } from '../harness/watch-checks.js';
 
 const PARTITIONS = 6;
 const THRESHOLDS = [0.1, 0.25];
@@ -74,17 +74,6 @@ describe('headroom watch at volume on the real broker', () => {
     }
   };
 
-  const waitForAll = async (watcher: Watcher, total: number): Promise<void> => {
-    const url = watcher.url() as string;
-    await until(`all ${total} messages counted`, async () => countedMessages(await scrape(url)) >= total, 240_000);
-    // Lag 0 everywhere and a settle scrape: a message counted twice would push the total past `total`.
-    await until('lag 0 on every partition', () => {
-      const p = watcher.source.partitions();
-      return p.length === PARTITIONS && p.every((x) => x.lagMessages === 0);
-    });
-    expect(countedMessages(await scrape(url))).toBe(total);
-  };
-
   beforeAll(async () => {
     await admin.connect();
     await producer.connect();
@@ -107,7 +96,7 @@ describe('headroom watch at volume on the real broker', () => {
 
     const started = performance.now();
     const watcher = await startWatcher(topic, null);
-    await waitForAll(watcher, events.length);
+    await waitUntilCounted(watcher, PARTITIONS, events.length);
     log(`watcher counted them in ${((performance.now() - started) / 1000).toFixed(1)} s`);
 
     const expected = expectedSeries(events, THRESHOLDS);
@@ -146,7 +135,7 @@ describe('headroom watch at volume on the real broker', () => {
     await send(topic, messages.slice(huge + 1));
 
     const watcher = await startWatcher(topic, deadLetterTopic);
-    await waitForAll(watcher, messages.length);
+    await waitUntilCounted(watcher, PARTITIONS, messages.length);
     await expectWatcherShows(watcher.url() as string, expectedSeries(valid, THRESHOLDS), '5m', bad);
 
     // Each malformed message once on the dead-letter topic: its bytes (null stays null) and its reason.
