@@ -21,19 +21,12 @@ import type { RunningCli } from '../harness/cli.js';
 import { uniqueName } from '../harness/names.js';
 import { makeScoredEvents } from '../harness/scored-events.js';
 import { countedMessages } from '../harness/watch-checks.js';
-import { freePort, startLocalBroker } from '../kafka/broker.js';
-import type { LocalBroker } from '../kafka/broker.js';
+import { freePort } from '../kafka/broker.js';
+import { benchBrokers, envCount } from './bench-env.js';
 import { parseExposition } from '../unit/serve/exposition.js';
 
 const PARTITIONS = 12;
 const CHUNK = 20_000;
-
-function envCount(name: string, fallback: number): number {
-  const raw = process.env[name];
-  const n = raw === undefined ? fallback : Number(raw);
-  if (!Number.isSafeInteger(n) || n < 1) throw new Error(`${name} must be a positive whole number, got ${raw}`);
-  return n;
-}
 
 const sleep = (ms: number): Promise<void> => new Promise((resolve) => setTimeout(resolve, ms));
 
@@ -91,15 +84,8 @@ async function run(brokers: string[], topic: string, members: number, events: nu
 async function main(): Promise<void> {
   const events = envCount('HEADROOM_BENCH_SCALE_EVENTS', 400_000);
   const max = envCount('HEADROOM_BENCH_SCALE_MAX', 3);
-  let broker: LocalBroker | undefined;
-  let brokers: string[];
-  if (process.env.KAFKA_BROKERS) {
-    brokers = process.env.KAFKA_BROKERS.split(',');
-  } else {
-    broker = await startLocalBroker();
-    brokers = [broker.bootstrap];
-    console.log(`local Apache Kafka ${broker.version} on ${broker.bootstrap}, ready in ${(broker.startMs / 1000).toFixed(1)} s`);
-  }
+  const kafkaBrokers = await benchBrokers();
+  const brokers = kafkaBrokers.brokers;
   const kafka = new Kafka({ clientId: 'headroom-bench-scale', brokers, logLevel: logLevel.WARN });
   const admin = kafka.admin();
   const producer = kafka.producer({ allowAutoTopicCreation: false, createPartitioner: Partitioners.DefaultPartitioner });
@@ -124,7 +110,7 @@ async function main(): Promise<void> {
     await producer.disconnect().catch(() => undefined);
     await admin.disconnect().catch(() => undefined);
     rmSync(dir, { recursive: true, force: true });
-    await broker?.stop();
+    await kafkaBrokers.stop();
   }
 }
 

@@ -34,8 +34,7 @@ import { parseConfig } from '../../src/config/index.js';
 import { FileCheckpointStore } from '../../src/state/index.js';
 import { createWatcher } from '../../src/stream/index.js';
 import { uniqueName } from '../harness/names.js';
-import { startLocalBroker } from '../kafka/broker.js';
-import type { LocalBroker } from '../kafka/broker.js';
+import { benchBrokers, envCount } from './bench-env.js';
 import { rng } from '../unit/events/prng.js';
 
 const PARTITIONS = 6;
@@ -58,14 +57,6 @@ interface RunResult {
   /** What the run saw: events counted (watcher) or values parsed (bare); must equal messages. */
   readonly seen: number;
   readonly note: string;
-}
-
-function envCount(name: string, fallback: number): number {
-  const raw = process.env[name];
-  if (raw === undefined || raw === '') return fallback;
-  const n = Number(raw);
-  if (!Number.isSafeInteger(n) || n < 1) throw new Error(`${name} must be a whole number >= 1, got ${JSON.stringify(raw)}`);
-  return n;
 }
 
 // ---------------------------------------------------------------------------------------------- fill
@@ -274,15 +265,8 @@ async function main(): Promise<void> {
   const profDir = process.env.HEADROOM_BENCH_E2E_CPU_PROF ? resolve(process.env.HEADROOM_BENCH_E2E_CPU_PROF) : undefined;
   if (profDir !== undefined) mkdirSync(profDir, { recursive: true });
 
-  let broker: LocalBroker | undefined;
-  let brokers: string[];
-  if (process.env.KAFKA_BROKERS) {
-    brokers = process.env.KAFKA_BROKERS.split(',');
-  } else {
-    broker = await startLocalBroker();
-    brokers = [broker.bootstrap];
-    console.log(`local Apache Kafka ${broker.version} on ${broker.bootstrap}, ready in ${(broker.startMs / 1000).toFixed(1)} s`);
-  }
+  const kafkaBrokers = await benchBrokers();
+  const brokers = kafkaBrokers.brokers;
   const kafka = new Kafka({ clientId: 'headroom-bench-fill', brokers, logLevel: logLevel.WARN });
   const admin = kafka.admin();
   const topic = uniqueName('bench-e2e');
@@ -324,7 +308,7 @@ async function main(): Promise<void> {
     await admin.deleteTopics({ topics: [topic] }).catch(() => undefined);
   } finally {
     await admin.disconnect();
-    await broker?.stop();
+    await kafkaBrokers.stop();
   }
 }
 
